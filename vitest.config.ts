@@ -1,16 +1,35 @@
+import { cloudflareTest, readD1Migrations } from '@cloudflare/vitest-pool-workers';
+import { fileURLToPath } from 'node:url';
 import { defineConfig } from 'vitest/config';
 
-// Node project: pure core modules, SDK and CLI. The workers project (routes inside workerd)
-// is added in vitest.workers.ts and joined here.
+const migrations = await readD1Migrations(fileURLToPath(new URL('./migrations', import.meta.url)));
+
+// Two projects: "node" for pure core modules, the SDK and the CLI; "workers" runs the routes
+// inside workerd with local D1 and R2, exactly as wrangler dev does.
 export default defineConfig({
   test: {
     projects: [
       {
         test: {
           name: 'node',
-          include: ['test/core/**/*.test.ts', 'test/sdk/**/*.test.ts'],
+          include: ['test/core/**/*.test.ts', 'test/sdk/**/*.test.ts', 'test/e2e/**/*.test.ts'],
           environment: 'node',
-          testTimeout: 120_000,
+          testTimeout: 180_000,
+          hookTimeout: 180_000,
+        },
+      },
+      {
+        plugins: [
+          cloudflareTest({
+            wrangler: { configPath: './wrangler.toml' },
+            miniflare: { bindings: { TEST_MIGRATIONS: migrations } },
+          }),
+        ],
+        test: {
+          name: 'workers',
+          include: ['test/api/**/*.test.ts'],
+          setupFiles: ['./test/api/apply-migrations.ts'],
+          testTimeout: 180_000,
         },
       },
     ],

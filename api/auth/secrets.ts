@@ -1,0 +1,24 @@
+/** Credential secrets: 256 random bits, base64url, with a prefix telling the kind apart. */
+export const SECRET_PREFIX = { admin: 'nva_', query: 'nvk_' } as const;
+
+export function newSecret(kind: keyof typeof SECRET_PREFIX): string {
+  const bytes = crypto.getRandomValues(new Uint8Array(32));
+  return SECRET_PREFIX[kind] + base64Url(bytes);
+}
+
+export async function hashSecret(secret: string): Promise<string> {
+  const digest = await crypto.subtle.digest('SHA-256', new TextEncoder().encode(secret));
+  return hex(new Uint8Array(digest));
+}
+
+export function hex(bytes: Uint8Array): string {
+  let out = '';
+  for (const b of bytes) out += b.toString(16).padStart(2, '0');
+  return out;
+}
+
+function base64Url(bytes: Uint8Array): string {
+  let bin = '';
+  for (const b of bytes) bin += String.fromCharCode(b);
+  return btoa(bin).replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
+}

@@ -1,0 +1,99 @@
+import { and, eq } from 'drizzle-orm';
+import { Hono } from 'hono';
+import { z } from 'zod';
+import { parseSiteTable } from '../../core/geo/site-table.ts';
+import { requireCredential } from '../auth/require-credential.ts';
+import { database } from '../db/client.ts';
+import { datasets, versions } from '../db/schema.ts';
+import type { AppBindings } from '../env.ts';
+import { ApiError } from '../http/api-error.ts';
+import { limitBody } from '../http/body-limit.ts';
+import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
+import { blobKeys, putBlob } from '../storage/blobs.ts';
+import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
+import { runBuild, sha256Hex } from './run-build.ts';
+
+/** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
+export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
+
+const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+
+export const adminDatasetRoutes = new Hono<AppBindings>()
+  .use('*', requireCredential('admin'))
+  .post('/datasets', limitBody(16 * 1024), async (c) => {
+    const body = await jsonBody(c.req.raw, CreateDatasetBody);
+    const db = database(c.env);
+    const inserted = await db
+      .insert(datasets)
+      .values({ id: crypto.randomUUID(), tenantId: c.var.tenantId, slug: body.slug, name: body.name ?? body.slug })
+      .onConflictDoNothing()
+      .returning();
+    if (inserted.length === 0) throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    return c.json(datasetView(inserted[0]!), 201);
+  })
+  .get('/datasets', async (c) => {
+    const rows = await database(c.env).select().from(datasets).where(eq(datasets.tenantId, c.var.tenantId));
+    return c.json({ datasets: rows.map(datasetView) });
+  })
+  .get('/datasets/:dataset/versions', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    return c.json({ dataset: dataset.slug, activeVersion: dataset.activeVersion, versions: (await listVersions(db, dataset.id)).map(versionView) });
+  })
+  .post('/datasets/:dataset/versions', limitBody(MAX_SITE_TABLE_BYTES), async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const type = c.req.header('content-type') ?? '';
+    if (!/^text\/csv\b/i.test(type)) {
+      throw new ApiError(415, 'content_type', `body: expected Content-Type text/csv, got "${type || 'none'}"`, 'content-type');
+    }
+    const bytes = new Uint8Array(await c.req.arrayBuffer());
+    const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    const tableKey = blobKeys.table(await sha256Hex(bytes));
+    await putBlob(c.env, tableKey, bytes);
+    const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
+    return c.json(versionView(await findVersion(db, dataset, number)), 201);
+  })
+  .post('/datasets/:dataset/versions/:version/build', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
+    const manifest = await runBuild(c.env, db, dataset, version);
+    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), matrix: manifest.matrix });
+  })
+  .post('/datasets/:dataset/versions/:version/publish', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
+    if (version.state !== 'ready' && version.state !== 'active') {
+      throw new ApiError(409, 'version_state', `version ${version.number} is ${version.state}; only a built (ready) version can be published`, 'version');
+    }
+    const now = new Date().toISOString();
+    // One batch, so readers see either the old or the new active version, never none or two.
+    await db.batch([
+      db.update(versions).set({ state: 'ready' }).where(and(eq(versions.datasetId, dataset.id), eq(versions.state, 'active'))),
+      db
+        .update(versions)
+        .set({ state: 'active', publishedAt: now })
+        .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number))),
+      db.update(datasets).set({ activeVersion: version.number }).where(eq(datasets.id, dataset.id)),
+    ]);
+    return c.json({ dataset: dataset.slug, activeVersion: version.number, previousVersion: dataset.activeVersion });
+  });
+
+function datasetView(row: typeof datasets.$inferSelect) {
+  return { slug: row.slug, name: row.name, activeVersion: row.activeVersion, createdAt: row.createdAt };
+}
+
+function versionView(row: VersionRow) {
+  return {
+    version: row.number,
+    state: row.state,
+    siteCount: row.siteCount,
+    contentHash: row.contentHash,
+    error: row.error,
+    createdAt: row.createdAt,
+    builtAt: row.builtAt,
+    publishedAt: row.publishedAt,
+  };
+}

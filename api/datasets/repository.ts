@@ -1,0 +1,78 @@
+import { and, desc, eq } from 'drizzle-orm';
+import type { Database } from '../db/client.ts';
+import { datasets, versions, type VersionState } from '../db/schema.ts';
+import { ApiError } from '../http/api-error.ts';
+
+export type DatasetRow = typeof datasets.$inferSelect;
+export type VersionRow = typeof versions.$inferSelect;
+
+export async function findDataset(db: Database, tenantId: string, slug: string): Promise<DatasetRow> {
+  const [row] = await db
+    .select()
+    .from(datasets)
+    .where(and(eq(datasets.tenantId, tenantId), eq(datasets.slug, slug)))
+    .limit(1);
+  if (!row) throw new ApiError(404, 'dataset_unknown', `dataset "${slug}" does not exist for this tenant`, 'dataset');
+  return row;
+}
+
+export async function findVersion(db: Database, dataset: DatasetRow, number: number): Promise<VersionRow> {
+  const [row] = await db
+    .select()
+    .from(versions)
+    .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, number)))
+    .limit(1);
+  if (!row) throw new ApiError(404, 'version_unknown', `dataset "${dataset.slug}" has no version ${number}`, 'version');
+  return row;
+}
+
+export async function listVersions(db: Database, datasetId: string): Promise<VersionRow[]> {
+  return db.select().from(versions).where(eq(versions.datasetId, datasetId)).orderBy(desc(versions.number));
+}
+
+/** Adds a draft version numbered one past the newest; retries if a concurrent upload took it. */
+export async function insertDraftVersion(
+  db: Database,
+  datasetId: string,
+  siteCount: number,
+  tableKey: string,
+): Promise<number> {
+  for (let attempt = 0; attempt < 5; attempt++) {
+    const [newest] = await db
+      .select({ number: versions.number })
+      .from(versions)
+      .where(eq(versions.datasetId, datasetId))
+      .orderBy(desc(versions.number))
+      .limit(1);
+    const number = (newest?.number ?? 0) + 1;
+    const inserted = await db
+      .insert(versions)
+      .values({ datasetId, number, state: 'draft', siteCount, tableKey })
+      .onConflictDoNothing()
+      .returning({ number: versions.number });
+    if (inserted.length === 1) return number;
+  }
+  throw new ApiError(409, 'version_conflict', 'too many concurrent uploads to this dataset; try again', 'version');
+}
+
+/** Moves a version from one of `from` to `to`; false if another request moved it first. */
+export async function moveVersionState(
+  db: Database,
+  version: VersionRow,
+  from: readonly VersionState[],
+  to: VersionState,
+  extra: Partial<VersionRow> = {},
+): Promise<boolean> {
+  if (!from.includes(version.state)) return false;
+  const rows = await db
+    .update(versions)
+    .set({ ...extra, state: to })
+    .where(and(eq(versions.datasetId, version.datasetId), eq(versions.number, version.number), eq(versions.state, version.state)))
+    .returning({ number: versions.number });
+  return rows.length === 1;
+}
+
+/** A version answers queries once it has been published and until it is retired. */
+export function isAnswerable(version: VersionRow): boolean {
+  return version.state === 'active' || (version.state === 'ready' && version.publishedAt !== null);
+}

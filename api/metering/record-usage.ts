@@ -1,0 +1,29 @@
+import { sql } from 'drizzle-orm';
+import type { Database } from '../db/client.ts';
+import { usageDaily } from '../db/schema.ts';
+
+export interface AnsweredQuery {
+  credentialId: string;
+  datasetId: string;
+  version: number;
+  bytesIn: number;
+  bytesOut: number;
+  multiplications: number;
+}
+
+/** Counts one answered query with a single upsert, so concurrent queries never lose a count. */
+export async function recordAnsweredQuery(db: Database, q: AnsweredQuery, now = new Date()): Promise<void> {
+  const day = now.toISOString().slice(0, 10);
+  await db
+    .insert(usageDaily)
+    .values({ ...q, day, queries: 1 })
+    .onConflictDoUpdate({
+      target: [usageDaily.credentialId, usageDaily.datasetId, usageDaily.version, usageDaily.day],
+      set: {
+        queries: sql`${usageDaily.queries} + 1`,
+        bytesIn: sql`${usageDaily.bytesIn} + ${q.bytesIn}`,
+        bytesOut: sql`${usageDaily.bytesOut} + ${q.bytesOut}`,
+        multiplications: sql`${usageDaily.multiplications} + ${q.multiplications}`,
+      },
+    });
+}

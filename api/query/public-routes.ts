@@ -1,0 +1,87 @@
+import { Hono } from 'hono';
+import { cors } from 'hono/cors';
+import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
+import { answerMultiplications, answerQuery } from '../../core/pir/answer.ts';
+import { validateQuery } from '../../core/pir/validate.ts';
+import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import { requireCredential } from '../auth/require-credential.ts';
+import { database } from '../db/client.ts';
+import type { AppBindings } from '../env.ts';
+import { ApiError } from '../http/api-error.ts';
+import { limitBody } from '../http/body-limit.ts';
+import { pathSlug, pathVersion } from '../http/params.ts';
+import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
+import { recordAnsweredQuery } from '../metering/record-usage.ts';
+import { loadManifest, loadMatrix } from './version-cache.ts';
+
+/** No real matrix needs a bigger query than this; the exact size is checked per version. */
+const MAX_QUERY_BYTES = 32 * 1024 * 1024;
+
+export const publicRoutes = new Hono<AppBindings>()
+  // Apps in browsers call these routes; Server-Timing must be readable by them.
+  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications'], maxAge: 600 }))
+  .use('/datasets/*', requireCredential('query'))
+  .get('/datasets/:dataset/manifest', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const requested = c.req.query('version');
+    const number = requested === undefined ? activeVersionOf(dataset) : pathVersion(requested);
+    const version = await servedVersion(db, dataset, number);
+    const manifest = await loadManifest(c.env, version.manifestKey!);
+    c.header('Cache-Control', 'private, max-age=60');
+    c.header('ETag', `"${manifest.contentHash}"`);
+    return c.json(manifest);
+  })
+  .post('/datasets/:dataset/versions/:version/query', limitBody(MAX_QUERY_BYTES), async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
+    const manifest = await loadManifest(c.env, version.manifestKey!);
+    const columns = manifest.matrix.columns;
+    const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), columns);
+    const declared = Number(c.req.header('content-length') ?? '0');
+    if (declared > largest) {
+      throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes, got ${declared}`, 'body');
+    }
+    const body = new Uint8Array(await c.req.arrayBuffer());
+    if (body.length > largest) throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes`, 'body');
+    const started = performance.now();
+    const { n, values } = decodeQuery(body);
+    validateQuery(n, values, columns);
+    const matrix = await loadMatrix(c.env, version.matrixKey!);
+    const rows = answerQuery(matrix, n, values);
+    const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
+    const serverMs = performance.now() - started;
+    const multiplications = answerMultiplications(matrix);
+    c.executionCtx.waitUntil(
+      recordAnsweredQuery(db, {
+        credentialId: c.var.credentialId,
+        datasetId: dataset.id,
+        version: version.number,
+        bytesIn: body.length,
+        bytesOut: answer.length,
+        multiplications,
+      }),
+    );
+    return c.body(answer.buffer as ArrayBuffer, 200, {
+      'Content-Type': 'application/octet-stream',
+      'Server-Timing': `answer;dur=${serverMs.toFixed(1)};desc="PIR answer"`,
+      'X-Nearveil-Multiplications': String(multiplications),
+      'Cache-Control': 'no-store',
+    });
+  });
+
+function activeVersionOf(dataset: DatasetRow): number {
+  if (dataset.activeVersion === null) {
+    throw new ApiError(404, 'no_active_version', `dataset "${dataset.slug}" has no published version yet`, 'dataset');
+  }
+  return dataset.activeVersion;
+}
+
+async function servedVersion(db: Parameters<typeof findVersion>[0], dataset: DatasetRow, number: number): Promise<VersionRow> {
+  const version = await findVersion(db, dataset, number);
+  if (!isAnswerable(version) || !version.manifestKey || !version.matrixKey) {
+    throw new ApiError(410, 'version_not_served', `version ${number} of "${dataset.slug}" is ${version.state} and answers no queries`, 'version');
+  }
+  return version;
+}

@@ -1,0 +1,13 @@
+import type { D1Migration } from '@cloudflare/vitest-pool-workers';
+import type { Env } from '../../api/env.ts';
+
+declare global {
+  namespace Cloudflare {
+    interface Env {
+      DB: D1Database;
+      BLOBS: R2Bucket;
+      TEST_MIGRATIONS: D1Migration[];
+    }
+  }
+}
+export type { Env };
