@@ -1,0 +1,40 @@
+import { createHash, randomBytes, randomUUID } from 'node:crypto';
+import { existsSync, readFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { CREDENTIALS_FILE, type DevCredentials } from '../../sdk/cli/dev-home.ts';
+import { localSql } from './wrangler.ts';
+
+export const DEMO_TENANT = 'demo';
+export const DEMO_DATASET = 'harrow-vale-care';
+
+const sqlText = (s: string) => `'${s.replace(/'/g, "''")}'`;
+const secret = (prefix: string) => prefix + randomBytes(32).toString('base64url');
+const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
+
+/**
+ * Makes sure the local database has the demo tenant and that the credentials file matches it.
+ * Reuses saved credentials while they still exist in the database; otherwise creates new ones
+ * (the database keeps only their hashes, so lost secrets cannot be recovered, only replaced).
+ */
+export function ensureDemoTenant(persistTo: string, home: string, endpoint: string): DevCredentials {
+  const path = join(home, CREDENTIALS_FILE);
+  const saved = existsSync(path) ? (JSON.parse(readFileSync(path, 'utf8')) as Partial<DevCredentials>) : {};
+  if (saved.adminToken && saved.apiKey) {
+    const hashes = [sha256(saved.adminToken), sha256(saved.apiKey)].map(sqlText).join(',');
+    const found = localSql(persistTo, `SELECT count(*) AS n FROM credentials WHERE revoked_at IS NULL AND secret_hash IN (${hashes})`);
+    if (Number(found[0]?.n) === 2) return { ...(saved as DevCredentials), endpoint };
+  }
+  const tenantRows = localSql(persistTo, `SELECT id FROM tenants WHERE slug = ${sqlText(DEMO_TENANT)}`);
+  const tenantId = (tenantRows[0]?.id as string | undefined) ?? randomUUID();
+  const adminToken = secret('nva_');
+  const apiKey = secret('nvk_');
+  localSql(
+    persistTo,
+    [
+      `INSERT OR IGNORE INTO tenants (id, slug, name) VALUES (${sqlText(tenantId)}, ${sqlText(DEMO_TENANT)}, 'Harrow Vale Care Network (demo)')`,
+      `INSERT INTO credentials (id, tenant_id, kind, secret_hash, label) VALUES (${sqlText(randomUUID())}, ${sqlText(tenantId)}, 'admin', ${sqlText(sha256(adminToken))}, 'dev admin token')`,
+      `INSERT INTO credentials (id, tenant_id, kind, secret_hash, label) VALUES (${sqlText(randomUUID())}, ${sqlText(tenantId)}, 'query', ${sqlText(sha256(apiKey))}, 'dev API key')`,
+    ].join('; '),
+  );
+  return { endpoint, tenant: DEMO_TENANT, adminToken, apiKey, demoDataset: DEMO_DATASET };
+}

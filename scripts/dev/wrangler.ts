@@ -1,0 +1,36 @@
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+
+export const PROJECT_ROOT = fileURLToPath(new URL('../../', import.meta.url));
+const WRANGLER = fileURLToPath(new URL('../../node_modules/wrangler/bin/wrangler.js', import.meta.url));
+
+/** No account, no telemetry, no update checks: local runs stay on this machine. */
+const QUIET_ENV = { ...process.env, WRANGLER_SEND_METRICS: 'false', CLOUDFLARE_API_TOKEN: '', NO_COLOR: '1' };
+
+/** Runs one wrangler command to completion and returns its stdout; throws with its output on failure. */
+export function wrangler(args: string[]): string {
+  const run = spawnSync(process.execPath, [WRANGLER, ...args], { cwd: PROJECT_ROOT, env: QUIET_ENV, encoding: 'utf8', timeout: 180_000 });
+  if (run.status !== 0) {
+    throw new Error(`wrangler ${args.slice(0, 3).join(' ')} failed (exit ${run.status}):\n${run.stdout}\n${run.stderr}`);
+  }
+  return run.stdout;
+}
+
+/** Starts `wrangler dev` in the background; its output goes to ours, prefixed. */
+export function startWranglerDev(args: string[]): ChildProcess {
+  const child = spawn(process.execPath, [WRANGLER, 'dev', ...args], { cwd: PROJECT_ROOT, env: QUIET_ENV, stdio: ['ignore', 'pipe', 'pipe'] });
+  const relay = (stream: NodeJS.ReadableStream | null, out: NodeJS.WriteStream) =>
+    stream?.on('data', (chunk: Buffer) => {
+      for (const line of chunk.toString().split('\n')) if (line.trim()) out.write(`[worker] ${line}\n`);
+    });
+  relay(child.stdout, process.stdout);
+  relay(child.stderr, process.stderr);
+  return child;
+}
+
+/** Runs SQL against the local D1 database and returns the rows of the last statement. */
+export function localSql(persistTo: string, sql: string): Array<Record<string, unknown>> {
+  const out = wrangler(['d1', 'execute', 'DB', '--local', '--persist-to', persistTo, '--json', '--command', sql]);
+  const parsed = JSON.parse(out.slice(out.indexOf('['))) as Array<{ results: Array<Record<string, unknown>> }>;
+  return parsed.at(-1)?.results ?? [];
+}

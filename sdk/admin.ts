@@ -1,0 +1,48 @@
+import { NearveilError, send, type FetchLike } from './http.ts';
+
+export interface AdminOptions {
+  endpoint: string;
+  /** The tenant's admin token (starts with nva_). */
+  token: string;
+  fetch?: FetchLike;
+}
+
+export interface VersionInfo {
+  version: number;
+  state: string;
+  siteCount: number;
+  contentHash: string | null;
+  error: string | null;
+}
+
+/** Provider-side calls: datasets, site table uploads, builds and publishing. */
+export function connectAdmin(options: AdminOptions) {
+  const http = { endpoint: options.endpoint, secret: options.token, ...(options.fetch ? { fetch: options.fetch } : {}) };
+  const json = async <T>(method: string, path: string, body?: unknown): Promise<T> => {
+    const response = await send(http, method, path, body === undefined ? undefined : JSON.stringify(body), body === undefined ? undefined : 'application/json');
+    return (await response.json()) as T;
+  };
+  const versionPath = (dataset: string, version: number) => `v1/admin/datasets/${encodeURIComponent(dataset)}/versions/${version}`;
+
+  return {
+    /** Creates the dataset unless it exists already. */
+    async ensureDataset(slug: string, name?: string): Promise<void> {
+      try {
+        await json('POST', 'v1/admin/datasets', { slug, ...(name ? { name } : {}) });
+      } catch (err) {
+        if (!(err instanceof NearveilError && err.code === 'dataset_exists')) throw err;
+      }
+    },
+    async uploadSiteTable(dataset: string, csv: string | Uint8Array): Promise<VersionInfo> {
+      const response = await send(http, 'POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`, csv, 'text/csv; charset=utf-8');
+      return (await response.json()) as VersionInfo;
+    },
+    build: (dataset: string, version: number) =>
+      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build`),
+    publish: (dataset: string, version: number) =>
+      json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),
+    versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),
+    createApiKey: (label: string) => json<{ id: string; apiKey: string }>('POST', 'v1/admin/keys', { label }),
+    revokeApiKey: (id: string) => json<{ id: string; revokedAt: string }>('POST', `v1/admin/keys/${encodeURIComponent(id)}/revoke`),
+  };
+}

@@ -1,0 +1,56 @@
+import { connect, type NearestResult } from '../../client.ts';
+import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
+import { loadOrCreateKeyPair } from '../key-store.ts';
+import { connectionOptions, degrees, parseCommand, requireString, resolveConnection } from '../options.ts';
+
+export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--json]
+  Finds the exact nearest site through the private protocol: the server answers an encrypted
+  column query and never learns the point.
+  --dataset SLUG     dataset to ask (the demo dataset is named in .nearveil/dev-credentials.json)
+  --lat, --lon DEG   the point, in decimal degrees (WGS 84)
+  --json             print one JSON object
+  --endpoint URL, --api-key KEY   override the dev credentials`;
+
+export async function queryCommand(args: string[], print: (line: string) => void): Promise<void> {
+  const { values } = parseCommand('query', args, {
+    ...connectionOptions,
+    dataset: { type: 'string' },
+    lat: { type: 'string' },
+    lon: { type: 'string' },
+  });
+  if (values.help) return print(QUERY_HELP);
+  const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to ask');
+  const lat = degrees(values.lat, '--lat', -90, 90);
+  const lon = degrees(values.lon, '--lon', -180, 180);
+  const conn = resolveConnection(values);
+  const apiKey = requireString(conn.apiKey, '--api-key', 'pass one, or run `npm start` once to write dev credentials');
+  const keyPair = await loadOrCreateKeyPair(conn.home, DEFAULT_MODULUS_BITS);
+  const result = await connect({ endpoint: conn.endpoint, apiKey, keyPair }).nearest(dataset, { lat, lon });
+  print(values.json ? JSON.stringify(jsonView(result)) : textView(result));
+}
+
+function jsonView(r: NearestResult) {
+  return {
+    dataset: r.dataset,
+    version: r.version,
+    results: r.results.map(({ id, name, lat, lon, distanceMeters }) => ({ id, name, lat, lon, distanceMeters: Math.round(distanceMeters * 10) / 10 })),
+    cost: r.cost,
+  };
+}
+
+function textView(r: NearestResult): string {
+  const c = r.cost;
+  const lines = [`Nearest site in ${r.dataset} (version ${r.version}):`];
+  for (const s of r.results) {
+    lines.push(`  ${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
+  }
+  lines.push(
+    `Cost: ${c.modulusBits}-bit key, matrix ${c.rows} x ${c.columns}, ${kib(c.bytesUp)} up, ${kib(c.bytesDown)} down, ` +
+      `server ${c.serverMs === null ? 'n/a' : c.serverMs.toFixed(0) + ' ms'}, client ${c.clientMs.toFixed(0)} ms`,
+    'Straight-line distance, not travel time. Data can be out of date. In an emergency call your local emergency number.',
+  );
+  return lines.join('\n');
+}
+
+const formatMeters = (m: number) => (m < 1000 ? `${m.toFixed(0)} m` : `${(m / 1000).toFixed(2)} km`);
+const kib = (bytes: number) => `${(bytes / 1024).toFixed(0)} KiB`;

@@ -1,0 +1,46 @@
+import { NearveilError } from '../http.ts';
+import { CliError } from './cli-error.ts';
+import { IMPORT_HELP, importCommand } from './commands/import.ts';
+import { QUERY_HELP, queryCommand } from './commands/query.ts';
+
+const HELP = `nearveil: private nearest-site lookup
+
+Commands:
+${QUERY_HELP}
+
+${IMPORT_HELP}
+
+Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
+
+const commands: Record<string, (args: string[], print: (line: string) => void) => Promise<void>> = {
+  query: queryCommand,
+  import: importCommand,
+};
+
+/** Runs one command; returns the exit code (0 ok, 1 refused by the server, 2 a usage mistake). */
+export async function main(argv: string[], print = (line: string) => console.log(line), printError = (line: string) => console.error(line)): Promise<number> {
+  const [name, ...rest] = argv;
+  if (name === undefined || name === 'help' || name === '--help' || name === '-h') {
+    print(HELP);
+    return 0;
+  }
+  const command = commands[name];
+  if (!command) {
+    printError(`nearveil: unknown command "${name}"; commands are ${Object.keys(commands).join(', ')} (see \`nearveil help\`)`);
+    return 2;
+  }
+  try {
+    await command(rest, print);
+    return 0;
+  } catch (err) {
+    if (err instanceof CliError) {
+      printError(`nearveil: ${err.message}`);
+      return 2;
+    }
+    if (err instanceof NearveilError) {
+      printError(`nearveil: ${err.message}${err.field ? ` (field: ${err.field})` : ''}${err.status ? ` [HTTP ${err.status} ${err.code}]` : ''}`);
+      return 1;
+    }
+    throw err;
+  }
+}

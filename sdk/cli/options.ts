@@ -1,0 +1,59 @@
+import { parseArgs, type ParseArgsConfig } from 'node:util';
+import { CliError } from './cli-error.ts';
+import { nearveilHome, readDevCredentials } from './dev-home.ts';
+
+export const DEFAULT_ENDPOINT = 'http://127.0.0.1:8787';
+
+/** Options every command that talks to the server accepts. */
+export const connectionOptions = {
+  endpoint: { type: 'string' },
+  'api-key': { type: 'string' },
+  token: { type: 'string' },
+  json: { type: 'boolean', default: false },
+  help: { type: 'boolean', short: 'h', default: false },
+} as const satisfies ParseArgsConfig['options'];
+
+/** parseArgs with its errors turned into one readable line. */
+export function parseCommand<T extends NonNullable<ParseArgsConfig['options']>>(command: string, args: string[], options: T) {
+  try {
+    return parseArgs({ args, options, allowPositionals: true, strict: true });
+  } catch (err) {
+    const reason = err instanceof Error ? err.message.replace(/^.*?: /, '') : String(err);
+    throw new CliError(`${command}: ${reason} (see \`nearveil help\`)`);
+  }
+}
+
+export interface Connection {
+  endpoint: string;
+  apiKey: string | undefined;
+  token: string | undefined;
+  home: string;
+}
+
+/** Flags win over the dev credentials file that `npm start` writes. */
+export function resolveConnection(values: { endpoint?: string; 'api-key'?: string; token?: string }): Connection {
+  const home = nearveilHome();
+  const saved = readDevCredentials(home);
+  const endpoint = values.endpoint ?? saved.endpoint ?? DEFAULT_ENDPOINT;
+  try {
+    new URL(endpoint);
+  } catch {
+    throw new CliError(`--endpoint: expected a URL such as ${DEFAULT_ENDPOINT}, got "${endpoint}"`);
+  }
+  return { endpoint, apiKey: values['api-key'] ?? saved.apiKey, token: values.token ?? saved.adminToken, home };
+}
+
+export function requireString(value: string | undefined, flag: string, hint: string): string {
+  if (value === undefined || value.trim() === '') throw new CliError(`${flag} is required: ${hint}`);
+  return value;
+}
+
+/** A coordinate flag: a finite decimal number of degrees within [min, max]. */
+export function degrees(value: string | undefined, flag: string, min: number, max: number): number {
+  const text = requireString(value, flag, `decimal degrees between ${min} and ${max}`);
+  const n = Number(text);
+  if (!/^\s*[-+]?(\d+\.?\d*|\.\d+)\s*$/.test(text) || !Number.isFinite(n) || n < min || n > max) {
+    throw new CliError(`${flag}: expected decimal degrees between ${min} and ${max}, got "${text}"`);
+  }
+  return n;
+}

@@ -1,0 +1,121 @@
+import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
+import { locateRegion } from '../core/geo/locate.ts';
+import { ManifestSchema, type Manifest } from '../core/geo/manifest.ts';
+import { decodeRows } from '../core/pir/decode.ts';
+import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
+import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
+import { makeQuery } from '../core/pir/query.ts';
+import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
+
+export interface ConnectOptions {
+  /** Base URL of the nearveil API, for example http://127.0.0.1:8787 */
+  endpoint: string;
+  apiKey: string;
+  /** 2048 (default) or 3072. */
+  modulusBits?: number;
+  /** A key pair kept from an earlier session; otherwise one is generated on first use. */
+  keyPair?: PirKeyPair;
+  fetch?: FetchLike;
+}
+
+export interface NearestSite {
+  index: number;
+  id: string;
+  name: string | null;
+  lat: number;
+  lon: number;
+  distanceMeters: number;
+}
+
+export interface QueryCost {
+  modulusBits: number;
+  rows: number;
+  columns: number;
+  matrixOnes: number;
+  bytesUp: number;
+  bytesDown: number;
+  serverMs: number | null;
+  clientMs: number;
+}
+
+export interface NearestResult {
+  dataset: string;
+  version: number;
+  results: NearestSite[];
+  cost: QueryCost;
+}
+
+export interface NearveilClient {
+  nearest(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult>;
+  manifest(dataset: string): Promise<Manifest>;
+  keyPair(): Promise<PirKeyPair>;
+}
+
+/**
+ * Connects to a nearveil API. The key pair is generated once per client (it is the costly
+ * part of the client's work) and reused for every query; each query is still fresh.
+ */
+export function connect(options: ConnectOptions): NearveilClient {
+  const http = { endpoint: options.endpoint, secret: options.apiKey, ...(options.fetch ? { fetch: options.fetch } : {}) };
+  const modulusBits = options.keyPair?.modulusBits ?? options.modulusBits ?? DEFAULT_MODULUS_BITS;
+  let keys: Promise<PirKeyPair> | undefined = options.keyPair ? Promise.resolve(options.keyPair) : undefined;
+  const keyPair = () => (keys ??= generateKeyPair({ modulusBits }));
+
+  async function manifest(dataset: string): Promise<Manifest> {
+    const response = await send(http, 'GET', `v1/datasets/${encodeURIComponent(dataset)}/manifest`);
+    return ManifestSchema.parse(await response.json());
+  }
+
+  async function nearestOnce(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult> {
+    const m = await manifest(dataset);
+    if (!m.modulusBits.includes(modulusBits)) {
+      throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
+    }
+    const key = await keyPair();
+    const region = locateRegion(m, point.lat, point.lon);
+    const t0 = performance.now();
+    const body = encodeQuery(key.n, makeQuery(key, m.matrix.columns, region.column));
+    const t1 = performance.now();
+    const path = `v1/datasets/${encodeURIComponent(dataset)}/versions/${m.version}/query`;
+    const response = await send(http, 'POST', path, body, 'application/octet-stream');
+    const answerBytes = new Uint8Array(await response.arrayBuffer());
+    const t2 = performance.now();
+    const { rows } = decodeAnswer(answerBytes);
+    if (rows.length !== m.matrix.rows) {
+      throw new NearveilError(0, 'answer_shape', `answer has ${rows.length} rows, manifest says ${m.matrix.rows}`);
+    }
+    const bits = decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount);
+    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, 1);
+    const clientMs = t1 - t0 + (performance.now() - t2);
+    return {
+      dataset,
+      version: m.version,
+      results: found.map((c) => ({ index: c.index, id: m.siteIds[c.index] ?? String(c.index), name: null, lat: c.lat, lon: c.lon, distanceMeters: c.distanceMeters })),
+      cost: {
+        modulusBits,
+        rows: m.matrix.rows,
+        columns: m.matrix.columns,
+        matrixOnes: m.matrix.ones,
+        bytesUp: body.length,
+        bytesDown: answerBytes.length,
+        serverMs: serverTimingMs(response),
+        clientMs,
+      },
+    };
+  }
+
+  return {
+    manifest,
+    keyPair,
+    async nearest(dataset, point) {
+      try {
+        return await nearestOnce(dataset, point);
+      } catch (err) {
+        // A version published between our manifest read and our query: read again, once.
+        if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point);
+        throw err;
+      }
+    },
+  };
+}

@@ -1,0 +1,59 @@
+/** A refusal from the nearveil API, or a transport failure, with the server's code and field. */
+export class NearveilError extends Error {
+  readonly status: number;
+  readonly code: string;
+  readonly field: string | undefined;
+
+  constructor(status: number, code: string, message: string, field?: string) {
+    super(message);
+    this.name = 'NearveilError';
+    this.status = status;
+    this.code = code;
+    this.field = field;
+  }
+}
+
+export type FetchLike = (input: Request) => Promise<Response>;
+
+export interface HttpOptions {
+  endpoint: string;
+  secret: string;
+  fetch?: FetchLike;
+}
+
+/** Sends one request with the bearer secret; any non-2xx answer becomes a NearveilError. */
+export async function send(options: HttpOptions, method: string, path: string, body?: BodyInit, contentType?: string): Promise<Response> {
+  const url = new URL(path, options.endpoint.endsWith('/') ? options.endpoint : options.endpoint + '/');
+  const headers: Record<string, string> = { authorization: `Bearer ${options.secret}` };
+  if (contentType) headers['content-type'] = contentType;
+  const request = new Request(url, { method, headers, ...(body === undefined ? {} : { body }) });
+  let response: Response;
+  try {
+    response = await (options.fetch ?? fetch)(request);
+  } catch (err) {
+    const reason = err instanceof Error ? err.message : String(err);
+    throw new NearveilError(0, 'unreachable', `cannot reach ${url.origin}: ${reason}`);
+  }
+  if (response.ok) return response;
+  throw await errorFrom(response);
+}
+
+async function errorFrom(response: Response): Promise<NearveilError> {
+  const text = await response.text();
+  try {
+    const body = JSON.parse(text) as { error?: { code?: string; message?: string; field?: string } };
+    if (body.error?.message) {
+      return new NearveilError(response.status, body.error.code ?? 'error', body.error.message, body.error.field);
+    }
+  } catch {
+    // not JSON: fall through to the status line
+  }
+  return new NearveilError(response.status, 'http_' + response.status, `HTTP ${response.status}: ${text.slice(0, 200)}`);
+}
+
+/** Reads `dur` of the first Server-Timing metric (W3C Server Timing), in milliseconds. */
+export function serverTimingMs(response: Response): number | null {
+  const header = response.headers.get('server-timing');
+  const match = header ? /dur=([0-9.]+)/.exec(header) : null;
+  return match ? Number(match[1]) : null;
+}

@@ -1,0 +1,3 @@
+export { connect, type ConnectOptions, type NearestResult, type NearestSite, type NearveilClient, type QueryCost } from './client.ts';
+export { connectAdmin, type AdminOptions, type VersionInfo } from './admin.ts';
+export { NearveilError } from './http.ts';
