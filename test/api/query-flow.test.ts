@@ -1,0 +1,69 @@
+import { env } from 'cloudflare:test';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { greatCircleMeters } from '../../core/geo/distance.ts';
+import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import { connect } from '../../sdk/client.ts';
+import { BASE, createTestTenant, publishDataset, worker, type TestTenant } from './tenant-fixture.ts';
+import { rhodeIslandZipCsv } from './open-data-sites.ts';
+
+describe('upload, build, publish, then a private query through the SDK', () => {
+  const { csv, sites } = rhodeIslandZipCsv();
+  let tenant: TestTenant;
+  let key: PirKeyPair;
+
+  beforeAll(async () => {
+    tenant = await createTestTenant();
+    await publishDataset(tenant, 'ri-zips', csv);
+    key = await generateKeyPair({ modulusBits: 2048 });
+  });
+
+  it('uses a real open-data table of a useful size', () => {
+    expect(sites.length).toBeGreaterThan(50);
+  });
+
+  it('finds the brute-force great-circle nearest site, privately', async () => {
+    const client = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair: key, fetch: (r) => worker(r) });
+    // Points spread over the box and a little beyond it (the outside region must answer too).
+    const points = [
+      { lat: 41.824, lon: -71.413 },
+      { lat: 41.49, lon: -71.31 },
+      { lat: 41.2, lon: -71.58 },
+      { lat: 42.3, lon: -71.0 },
+      { lat: 40.9, lon: -72.2 },
+    ];
+    for (const point of points) {
+      const answer = await client.nearest('ri-zips', point);
+      const brute = Math.min(...sites.map((s) => greatCircleMeters(point.lat, point.lon, s.lat, s.lon)));
+      const found = answer.results[0]!;
+      // Ties and quantisation (about 1.2 m steps) allow a few metres of slack.
+      expect(Math.abs(found.distanceMeters - brute)).toBeLessThan(3);
+      const site = sites.find((s) => s.id === found.id)!;
+      expect(greatCircleMeters(point.lat, point.lon, site.lat, site.lon)).toBeLessThan(brute + 3);
+      expect(answer.cost.bytesUp).toBe(10 + 256 * (answer.cost.columns + 1));
+      expect(answer.cost.bytesDown).toBe(10 + 256 * answer.cost.rows);
+    }
+  });
+
+  it('meters answered queries per key, dataset, version and day', async () => {
+    const before = await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ n: number }>();
+    const client = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair: key, fetch: (r) => worker(r) });
+    await client.nearest('ri-zips', { lat: 41.7, lon: -71.5 });
+    await client.nearest('ri-zips', { lat: 41.6, lon: -71.4 });
+    // Metering runs in waitUntil; give it a moment to land.
+    let after = 0;
+    for (let i = 0; i < 50 && after < before!.n + 2; i++) {
+      await new Promise((r) => setTimeout(r, 20));
+      after = (await env.DB.prepare('SELECT SUM(queries) AS n FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ n: number }>())!.n;
+    }
+    expect(after).toBe(before!.n + 2);
+  });
+
+  it('serves the manifest with the matrix shape clients size queries by', async () => {
+    const res = await worker(`${BASE}/v1/datasets/ri-zips/manifest`, { headers: { authorization: `Bearer ${tenant.apiKey}` } });
+    expect(res.status).toBe(200);
+    const manifest = (await res.json()) as { siteCount: number; matrix: { rows: number; columns: number }; modulusBits: number[] };
+    expect(manifest.siteCount).toBe(sites.length);
+    expect(manifest.modulusBits).toEqual([2048, 3072]);
+    expect(manifest.matrix.rows).toBeGreaterThan(0);
+  });
+});

@@ -1,0 +1,92 @@
+import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { around } from 'geokdbush';
+import KDBush from 'kdbush';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { greatCircleMeters } from '../../core/geo/distance.ts';
+import { parseSiteTable } from '../../core/geo/site-table.ts';
+import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
+
+/**
+ * The README's two commands as a newcomer runs them: `npm start` (here on a spare port with its
+ * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
+ */
+const ROOT = fileURLToPath(new URL('../../', import.meta.url));
+const PORT = 8797;
+const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
+const env = { ...process.env, PORT: String(PORT), NEARVEIL_STATE: join(scratch, 'state'), NEARVEIL_HOME: join(scratch, 'home') };
+let server: ChildProcess;
+let serverLog = '';
+
+function nearveil(args: string[]) {
+  const run = spawnSync('npx', ['nearveil', ...args], { cwd: ROOT, env, encoding: 'utf8', timeout: 120_000 });
+  return { code: run.status, stdout: run.stdout, stderr: run.stderr };
+}
+
+beforeAll(async () => {
+  server = spawn(process.execPath, ['node_modules/tsx/dist/cli.mjs', 'scripts/start.ts'], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'] });
+  server.stdout!.on('data', (d: Buffer) => (serverLog += d.toString()));
+  server.stderr!.on('data', (d: Buffer) => (serverLog += d.toString()));
+  const until = Date.now() + 170_000;
+  while (!serverLog.includes('Press Ctrl-C')) {
+    if (Date.now() > until || server.exitCode !== null) throw new Error(`npm start did not come up:\n${serverLog}`);
+    await new Promise((r) => setTimeout(r, 250));
+  }
+});
+
+afterAll(async () => {
+  server?.kill('SIGTERM');
+  await new Promise((r) => setTimeout(r, 500));
+  rmSync(scratch, { recursive: true, force: true });
+});
+
+describe('README commands', () => {
+  it('starts on 127.0.0.1, answers /healthz and prints where the credentials are', async () => {
+    expect((await fetch(`http://127.0.0.1:${PORT}/healthz`)).status).toBe(200);
+    expect(serverLog).toContain(join(scratch, 'home', 'dev-credentials.json'));
+  });
+
+  it('`nearveil query --json` returns the brute-force nearest demo site', () => {
+    const sites = parseSiteTable(harrowValeCsv()).sites;
+    const index = new KDBush(sites.length);
+    for (const s of sites) index.add(s.lon, s.lat);
+    index.finish();
+    // Points in town centres, between towns and outside the region.
+    for (const [lat, lon] of [[45.62, -111.42], [45.3, -111.8], [46.3, -113.2], [44.7, -110.4]] as const) {
+      const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', String(lat), '--lon', String(lon), '--json']);
+      expect(run.stderr + run.stdout).toMatch(/"results"/);
+      const out = JSON.parse(run.stdout) as { results: Array<{ id: string; distanceMeters: number }>; cost: Record<string, number> };
+      const brute = Math.min(...sites.map((s) => greatCircleMeters(lat, lon, s.lat, s.lon)));
+      expect(Math.abs(out.results[0]!.distanceMeters - brute)).toBeLessThan(3);
+      // geokdbush (npm) as an outside reference for which site is nearest.
+      const reference = sites[around(index, lon, lat, 1)[0]!]!;
+      expect(greatCircleMeters(lat, lon, reference.lat, reference.lon)).toBeCloseTo(brute, 0);
+      expect(Object.keys(out.cost).sort()).toEqual(['bytesDown', 'bytesUp', 'clientMs', 'columns', 'matrixOnes', 'modulusBits', 'rows', 'serverMs'].sort());
+      expect(out.cost.modulusBits).toBe(2048);
+    }
+  });
+
+  it('`nearveil import FILE --dataset pharmacies --publish` makes a new dataset answerable', () => {
+    const imported = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--publish']);
+    expect(imported.code, imported.stderr).toBe(0);
+    expect(imported.stdout).toMatch(/version 1 is now active/);
+    const run = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.6', '--lon', '-111.5', '--json']);
+    expect(run.code, run.stderr).toBe(0);
+    expect(JSON.parse(run.stdout).version).toBe(1);
+  });
+
+  it('gives clear messages for bad input', () => {
+    const lat = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '123', '--lon', '0']);
+    expect(lat.code).toBe(2);
+    expect(lat.stderr).toMatch(/--lat: expected decimal degrees between -90 and 90, got "123"/);
+    const missing = nearveil(['import', 'no-such-file.csv', '--dataset', 'pharmacies']);
+    expect(missing.code).toBe(2);
+    expect(missing.stderr).toMatch(/cannot read no-such-file.csv/);
+    const unknown = nearveil(['query', '--dataset', 'no-such-set', '--lat', '45', '--lon', '-111']);
+    expect(unknown.code).toBe(1);
+    expect(unknown.stderr).toMatch(/dataset "no-such-set" does not exist.*HTTP 404/);
+  });
+});
