@@ -1,0 +1,47 @@
+import { assembleKeyPair } from './key-check.ts';
+import type { PirKeyPair } from './keys.ts';
+
+/** The stored form of a key pair: lower-case hex strings without prefix, plus a format number. */
+export interface PirKeyPairJson {
+  format: 1;
+  modulusBits: number;
+  n: string;
+  p: string;
+  q: string;
+  w: string;
+}
+
+/** Key pair to its stored form. The result holds the secret primes: store it like a private key. */
+export function keyPairToJson(key: PirKeyPair): PirKeyPairJson {
+  return {
+    format: 1,
+    modulusBits: key.modulusBits,
+    n: key.n.toString(16),
+    p: key.p.toString(16),
+    q: key.q.toString(16),
+    w: key.w.toString(16),
+  };
+}
+
+function hexField(json: Record<string, unknown>, name: string): bigint {
+  const v = json[name];
+  if (typeof v !== 'string' || !/^[0-9a-f]+$/.test(v)) {
+    throw new TypeError(`keyPairFromJson: expected lower-case hex string ${name}, got ${typeof v === 'string' ? JSON.stringify(v.slice(0, 20)) : typeof v}`);
+  }
+  return BigInt('0x' + v);
+}
+
+/**
+ * Stored form back to a key pair; every invariant of PirKeyPair is re-checked (n = p*q, bit
+ * length, w non-residue mod p and q). Throws TypeError for a malformed object and RangeError for
+ * values that break an invariant. Primality of p and q is not re-tested.
+ */
+export function keyPairFromJson(value: unknown): PirKeyPair {
+  if (typeof value !== 'object' || value === null) throw new TypeError(`keyPairFromJson: expected object, got ${value === null ? 'null' : typeof value}`);
+  const json = value as Record<string, unknown>;
+  if (json.format !== 1) throw new RangeError(`keyPairFromJson: expected format 1, got ${String(json.format)}`);
+  if (typeof json.modulusBits !== 'number') throw new TypeError(`keyPairFromJson: expected number modulusBits, got ${typeof json.modulusBits}`);
+  const key = assembleKeyPair(hexField(json, 'p'), hexField(json, 'q'), json.modulusBits, hexField(json, 'w'));
+  if (key.n !== hexField(json, 'n')) throw new RangeError('keyPairFromJson: expected n = p*q, got a different n');
+  return key;
+}
