@@ -1,5 +1,6 @@
 import { assembleKeyPair } from './key-check.ts';
 import type { PirKeyPair } from './keys.ts';
+import { ALLOWED_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
 
 /** The stored form of a key pair: lower-case hex strings without prefix, plus a format number. */
 export interface PirKeyPairJson {
@@ -33,7 +34,7 @@ function hexField(json: Record<string, unknown>, name: string): bigint {
 
 /**
  * Stored form back to a key pair; every invariant of PirKeyPair is re-checked (n = p*q, bit
- * length, w non-residue mod p and q). Throws TypeError for a malformed object and RangeError for
+ * length, an allowed modulus size, w non-residue mod p and q). Throws TypeError for a malformed object and RangeError for
  * values that break an invariant. Primality of p and q is not re-tested.
  */
 export function keyPairFromJson(value: unknown): PirKeyPair {
@@ -41,6 +42,9 @@ export function keyPairFromJson(value: unknown): PirKeyPair {
   const json = value as Record<string, unknown>;
   if (json.format !== 1) throw new RangeError(`keyPairFromJson: expected format 1, got ${String(json.format)}`);
   if (typeof json.modulusBits !== 'number') throw new TypeError(`keyPairFromJson: expected number modulusBits, got ${typeof json.modulusBits}`);
+  if (!isAllowedModulusBits(json.modulusBits)) {
+    throw new RangeError(`keyPairFromJson: expected modulusBits in ${ALLOWED_MODULUS_BITS.join(', ')}, got ${json.modulusBits}`);
+  }
   const key = assembleKeyPair(hexField(json, 'p'), hexField(json, 'q'), json.modulusBits, hexField(json, 'w'));
   if (key.n !== hexField(json, 'n')) throw new RangeError('keyPairFromJson: expected n = p*q, got a different n');
   return key;

@@ -82,6 +82,7 @@ describe('key pair stored form', () => {
     expect(() => keyPairFromJson({ ...stored, w: ((key.w * key.w) % key.n).toString(16) })).toThrow(/non-residue/);
     expect(() => keyPairFromJson({ ...stored, n: (key.n + 2n).toString(16) })).toThrow(/expected n = p\*q/);
     expect(() => keyPairFromJson({ ...stored, modulusBits: 3072 })).toThrow(/expected n of 3072 bits, got 2048/);
+    expect(() => keyPairFromJson({ ...stored, modulusBits: 1024 })).toThrow(/expected modulusBits in 2048, 3072, got 1024/);
     expect(() => keyPairFromJson({ ...stored, p: 'XYZ' })).toThrow(TypeError);
     expect(() => keyPairFromJson({ ...stored, format: 2 })).toThrow(/expected format 1, got 2/);
     expect(() => keyPairFromJson(null)).toThrow(TypeError);
