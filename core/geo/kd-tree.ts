@@ -1,0 +1,167 @@
+/**
+ * A static 3-D kd-tree over unit vectors (points on the unit sphere). Distances are chord
+ * lengths, which grow strictly with great-circle distance, so "nearest by chord" is "nearest by
+ * great circle". Built once, queried many times; no insertion.
+ *
+ * Layout (as in implicit kd-trees): the points are permuted so that for a node covering the
+ * index range [lo, hi], the median m = (lo + hi) >> 1 splits it on axis[m]; [lo, m) lie on or
+ * below coords[m] on that axis and (m, hi] on or above. Ranges of at most LEAF points are scanned.
+ */
+const LEAF = 8;
+
+export interface UnitKdTree {
+  /** Number of points. */
+  readonly size: number;
+  /** x, y, z of point i (tree order) at 3i .. 3i + 2. */
+  readonly coords: Float64Array;
+  /** Caller's index of the point at tree position i. */
+  readonly ids: Int32Array;
+  /** Split axis (0, 1, 2) of the node whose median is position i. */
+  readonly axis: Uint8Array;
+}
+
+/** Builds the tree; `xyz` holds x, y, z of point k at 3k .. 3k + 2. Requires at least one point. */
+export function buildUnitKdTree(xyz: Float64Array): UnitKdTree {
+  const size = xyz.length / 3;
+  if (!Number.isInteger(size) || size < 1) {
+    throw new RangeError(`buildUnitKdTree: expected a positive multiple of 3 coordinates, got ${xyz.length}`);
+  }
+  const coords = Float64Array.from(xyz);
+  const ids = new Int32Array(size).map((_, i) => i);
+  const axis = new Uint8Array(size);
+  const stack = [0, size - 1];
+  while (stack.length > 0) {
+    const hi = stack.pop()!;
+    const lo = stack.pop()!;
+    if (hi - lo + 1 <= LEAF) continue;
+    const ax = widestAxis(coords, lo, hi);
+    const m = (lo + hi) >> 1;
+    select(coords, ids, lo, hi, m, ax);
+    axis[m] = ax;
+    stack.push(lo, m - 1, m + 1, hi);
+  }
+  return { size, coords, ids, axis };
+}
+
+function widestAxis(c: Float64Array, lo: number, hi: number): number {
+  let best = 0;
+  let bestSpread = -1;
+  for (let ax = 0; ax < 3; ax++) {
+    let min = Infinity;
+    let max = -Infinity;
+    for (let i = lo; i <= hi; i++) {
+      const v = c[3 * i + ax]!;
+      if (v < min) min = v;
+      if (v > max) max = v;
+    }
+    if (max - min > bestSpread) {
+      bestSpread = max - min;
+      best = ax;
+    }
+  }
+  return best;
+}
+
+/** Quickselect: puts the k-th smallest on `ax` at position k, smaller before, larger after. */
+function select(c: Float64Array, ids: Int32Array, lo: number, hi: number, k: number, ax: number): void {
+  while (hi > lo) {
+    const pivot = c[3 * ((lo + hi) >> 1) + ax]!;
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (c[3 * i + ax]! < pivot) i++;
+      while (c[3 * j + ax]! > pivot) j--;
+      if (i <= j) {
+        swap(c, ids, i, j);
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else return;
+  }
+}
+
+function swap(c: Float64Array, ids: Int32Array, i: number, j: number): void {
+  const t = ids[i]!;
+  ids[i] = ids[j]!;
+  ids[j] = t;
+  for (let a = 0; a < 3; a++) {
+    const v = c[3 * i + a]!;
+    c[3 * i + a] = c[3 * j + a]!;
+    c[3 * j + a] = v;
+  }
+}
+
+function dist2(c: Float64Array, i: number, x: number, y: number, z: number): number {
+  const dx = c[3 * i]! - x;
+  const dy = c[3 * i + 1]! - y;
+  const dz = c[3 * i + 2]! - z;
+  return dx * dx + dy * dy + dz * dz;
+}
+
+/** Squared chord from (x, y, z) to the nearest point of the tree. Exact (no approximation). */
+export function nearestChord2(t: UnitKdTree, x: number, y: number, z: number): number {
+  const q = [x, y, z] as const;
+  let best = Infinity;
+  const visit = (lo: number, hi: number): void => {
+    if (hi - lo + 1 <= LEAF) {
+      for (let i = lo; i <= hi; i++) {
+        const d = dist2(t.coords, i, x, y, z);
+        if (d < best) best = d;
+      }
+      return;
+    }
+    const m = (lo + hi) >> 1;
+    const d = dist2(t.coords, m, x, y, z);
+    if (d < best) best = d;
+    const ax = t.axis[m]!;
+    const diff = q[ax]! - t.coords[3 * m + ax]!;
+    if (diff <= 0) {
+      visit(lo, m - 1);
+      if (diff * diff < best) visit(m + 1, hi);
+    } else {
+      visit(m + 1, hi);
+      if (diff * diff < best) visit(lo, m - 1);
+    }
+  };
+  visit(0, t.size - 1);
+  return best;
+}
+
+/**
+ * Caller indices of the points within squared chord `r2` of (x, y, z) (inclusive), pushed onto
+ * `out` in no particular order. Stops early once more than `limit` points are found, so the
+ * caller can tell "few" from "many" cheaply; then `out` holds limit + 1 of them.
+ */
+export function pointsWithin(t: UnitKdTree, x: number, y: number, z: number, r2: number, out: number[], limit = Infinity): number[] {
+  const q = [x, y, z] as const;
+  const visit = (lo: number, hi: number): boolean => {
+    if (hi - lo + 1 <= LEAF) {
+      for (let i = lo; i <= hi; i++) {
+        if (dist2(t.coords, i, x, y, z) <= r2) {
+          out.push(t.ids[i]!);
+          if (out.length > limit) return false;
+        }
+      }
+      return true;
+    }
+    const m = (lo + hi) >> 1;
+    if (dist2(t.coords, m, x, y, z) <= r2) {
+      out.push(t.ids[m]!);
+      if (out.length > limit) return false;
+    }
+    const ax = t.axis[m]!;
+    const diff = q[ax]! - t.coords[3 * m + ax]!;
+    if (diff <= 0 || diff * diff <= r2) {
+      if (!visit(lo, m - 1)) return false;
+    }
+    if (diff >= 0 || diff * diff <= r2) {
+      if (!visit(m + 1, hi)) return false;
+    }
+    return true;
+  };
+  visit(0, t.size - 1);
+  return out;
+}
