@@ -4,7 +4,6 @@ import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../../..
 import { greatCircleMeters } from '../../../core/geo/distance.ts';
 
 const LAT_STEP = 180 / 2 ** 24;
-const LON_STEP = 360 / 2 ** 25;
 
 describe('quantised coordinates', () => {
   it('round-trips within half a step (about 0.6 m) and the codes fit their widths', () => {
