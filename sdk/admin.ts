@@ -33,7 +33,7 @@ export function connectAdmin(options: AdminOptions) {
         if (!(err instanceof NearveilError && err.code === 'dataset_exists')) throw err;
       }
     },
-    async uploadSiteTable(dataset: string, csv: string | Uint8Array): Promise<VersionInfo> {
+    async uploadSiteTable(dataset: string, csv: string | Uint8Array<ArrayBuffer>): Promise<VersionInfo> {
       const response = await send(http, 'POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`, csv, 'text/csv; charset=utf-8');
       return (await response.json()) as VersionInfo;
     },

@@ -69,7 +69,7 @@ export function connect(options: ConnectOptions): NearveilClient {
 
   async function nearestOnce(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult> {
     const m = await manifest(dataset);
-    if (!m.modulusBits.includes(modulusBits)) {
+    if (!(m.modulusBits as readonly number[]).includes(modulusBits)) {
       throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
     }
     const key = await keyPair();

@@ -41,6 +41,6 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   }
 }
 
-export async function sha256Hex(bytes: Uint8Array): Promise<string> {
+export async function sha256Hex(bytes: Uint8Array<ArrayBuffer>): Promise<string> {
   return hex(new Uint8Array(await crypto.subtle.digest('SHA-256', bytes)));
 }

@@ -11,7 +11,7 @@ import type { BitMatrix } from './bit-matrix.ts';
 const MAGIC = [0x4e, 0x56, 0x4d, 0x31];
 const HEADER_BYTES = 12;
 
-export function encodeMatrixBlob(m: BitMatrix): Uint8Array {
+export function encodeMatrixBlob(m: BitMatrix): Uint8Array<ArrayBuffer> {
   const out = new Uint8Array(HEADER_BYTES + m.words.length * 4);
   const view = new DataView(out.buffer);
   out.set(MAGIC, 0);

@@ -57,7 +57,7 @@ function writeNumbers(out: Uint8Array, offset: number, k: number, numbers: reado
  * 2^32 - 1, or a value is negative or does not fit in k bytes (ranges modulo n are not checked
  * here: that is validateQuery's job on the server).
  */
-export function encodeQuery(n: bigint, values: readonly bigint[]): Uint8Array {
+export function encodeQuery(n: bigint, values: readonly bigint[]): Uint8Array<ArrayBuffer> {
   if (typeof n !== 'bigint' || n < 1n) throw new RangeError(`encodeQuery: expected bigint modulus >= 1, got ${String(n)}`);
   checkCount('encodeQuery', 'value count', values.length);
   const k = modulusBytes('encodeQuery', bitLength(n));
@@ -72,7 +72,7 @@ export function encodeQuery(n: bigint, values: readonly bigint[]): Uint8Array {
  * Encodes an answer with k bytes per row (k = the query's modulus byte width). Throws RangeError
  * when k is not in [1, 65535], there are no rows, or a row is negative or does not fit in k bytes.
  */
-export function encodeAnswer(k: number, rows: readonly bigint[]): Uint8Array {
+export function encodeAnswer(k: number, rows: readonly bigint[]): Uint8Array<ArrayBuffer> {
   if (!Number.isSafeInteger(k) || k < 1 || k > MAX_WIDTH) throw new RangeError(`encodeAnswer: expected integer k in [1, ${MAX_WIDTH}], got ${k}`);
   checkCount('encodeAnswer', 'row count', rows.length);
   const out = new Uint8Array(WIRE_HEADER_BYTES + k * rows.length);

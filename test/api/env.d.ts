@@ -8,6 +8,10 @@ declare global {
       BLOBS: R2Bucket;
       TEST_MIGRATIONS: D1Migration[];
     }
+    // Types `exports` of cloudflare:workers: the Worker's entry module, reached in-process.
+    interface GlobalProps {
+      mainModule: typeof import('../../api/worker.ts');
+    }
   }
 }
 export type { Env };
