@@ -101,10 +101,10 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
     const csv = 'id,lat,lon,name\nok-1,41.5,-71.5,Fine\nbad-2,123,-71.5,Too far north\nbad-3,41.5,,No longitude\n';
     const error = await expectRefused(
       () => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', csv, 'text/csv'),
-      422, 'site_table', 'file');
+      400, 'site_table', 'file');
     const details = (error as unknown as { details: Array<{ row: number; column: string }> }).details;
     expect(details).toEqual(expect.arrayContaining([expect.objectContaining({ row: 3, column: 'lat' }), expect.objectContaining({ row: 4, column: 'lon' })]));
-    await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', 'name\nx\n', 'text/csv'), 422, 'site_table', 'file');
+    await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', 'name\nx\n', 'text/csv'), 400, 'site_table', 'file');
     await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', csv, 'application/json'), 415, 'content_type', 'content-type');
   });
 
