@@ -13,10 +13,30 @@ export const connectionOptions = {
   help: { type: 'boolean', short: 'h', default: false },
 } as const satisfies ParseArgsConfig['options'];
 
+/**
+ * Glues a negative number to its flag (`--lon -111.4` becomes `--lon=-111.4`): node's parseArgs
+ * would otherwise read `-111.4` as an unknown option, and western longitudes are negative.
+ */
+function joinNegativeNumbers(args: string[], options: NonNullable<ParseArgsConfig['options']>): string[] {
+  const out: string[] = [];
+  for (let i = 0; i < args.length; i++) {
+    const arg = args[i]!;
+    const next = args[i + 1];
+    const name = arg.startsWith('--') && !arg.includes('=') ? arg.slice(2) : undefined;
+    if (name && options[name]?.type === 'string' && next !== undefined && /^-(\d|\.\d)/.test(next)) {
+      out.push(`${arg}=${next}`);
+      i++;
+    } else {
+      out.push(arg);
+    }
+  }
+  return out;
+}
+
 /** parseArgs with its errors turned into one readable line. */
 export function parseCommand<T extends NonNullable<ParseArgsConfig['options']>>(command: string, args: string[], options: T) {
   try {
-    return parseArgs({ args, options, allowPositionals: true, strict: true });
+    return parseArgs({ args: joinNegativeNumbers(args, options), options, allowPositionals: true, strict: true });
   } catch (err) {
     const reason = err instanceof Error ? err.message.replace(/^.*?: /, '') : String(err);
     throw new CliError(`${command}: ${reason} (see \`nearveil help\`)`);

@@ -33,7 +33,7 @@ function jsonView(r: NearestResult) {
   return {
     dataset: r.dataset,
     version: r.version,
-    results: r.results.map(({ id, name, lat, lon, distanceMeters }) => ({ id, name, lat, lon, distanceMeters: Math.round(distanceMeters * 10) / 10 })),
+    results: r.results.map(({ id, name, lat, lon, distanceMeters }) => ({ id, name, lat: round(lat, 6), lon: round(lon, 6), distanceMeters: round(distanceMeters, 1) })),
     cost: r.cost,
   };
 }
@@ -54,3 +54,5 @@ function textView(r: NearestResult): string {
 
 const formatMeters = (m: number) => (m < 1000 ? `${m.toFixed(0)} m` : `${(m / 1000).toFixed(2)} km`);
 const kib = (bytes: number) => `${(bytes / 1024).toFixed(0)} KiB`;
+/** Decimal rounding for display: 6 places of a degree is about 0.1 m, finer than the quantisation. */
+const round = (x: number, places: number) => Math.round(x * 10 ** places) / 10 ** places;
