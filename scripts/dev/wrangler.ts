@@ -5,7 +5,7 @@ export const PROJECT_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const WRANGLER = fileURLToPath(new URL('../../node_modules/wrangler/bin/wrangler.js', import.meta.url));
 
 /** No account, no telemetry, no update checks: local runs stay on this machine. */
-const QUIET_ENV = { ...process.env, WRANGLER_SEND_METRICS: 'false', CLOUDFLARE_API_TOKEN: '', NO_COLOR: '1' };
+const QUIET_ENV = { ...process.env, WRANGLER_SEND_METRICS: 'false', CLOUDFLARE_CF_FETCH_ENABLED: 'false', NO_COLOR: '1' };
 
 /** Runs one wrangler command to completion and returns its stdout; throws with its output on failure. */
 export function wrangler(args: string[]): string {
