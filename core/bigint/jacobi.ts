@@ -17,16 +17,30 @@ export function jacobi(a: bigint, n: bigint): -1 | 0 | 1 {
   let m = n;
   let sign: -1 | 1 = 1;
   while (x !== 0n) {
-    while ((x & 1n) === 0n) {
-      x >>= 1n;
+    // Strip all factors of two with one shift: (2/m) = -1 exactly when m = 3 or 5 mod 8.
+    const twos = trailingZeros(x);
+    if (twos > 0) {
+      x >>= BigInt(twos);
       const r = m & 7n;
-      if (r === 3n || r === 5n) sign = sign === 1 ? -1 : 1;
+      if ((twos & 1) === 1 && (r === 3n || r === 5n)) sign = sign === 1 ? -1 : 1;
     }
     [x, m] = [m, x];
     if ((x & 3n) === 3n && (m & 3n) === 3n) sign = sign === 1 ? -1 : 1;
     x %= m;
   }
   return m === 1n ? sign : 0;
+}
+
+/** Number of trailing zero bits of x > 0, read 32 bits at a time (a BigInt shift allocates). */
+function trailingZeros(x: bigint): number {
+  let count = 0;
+  let low = Number(x & 0xffffffffn);
+  while (low === 0) {
+    count += 32;
+    x >>= 32n;
+    low = Number(x & 0xffffffffn);
+  }
+  return count + 31 - Math.clz32(low & -low);
 }
 
 /**

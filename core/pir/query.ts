@@ -1,4 +1,4 @@
-import { randomUnit } from '../bigint/random.ts';
+import { randomBelow } from '../bigint/random.ts';
 import type { PirKeyPair } from './keys.ts';
 
 /**
@@ -16,9 +16,20 @@ export function makeQuery(key: PirKeyPair, columns: number, column: number): big
   const { n, w } = key;
   const values = new Array<bigint>(columns);
   for (let j = 0; j < columns; j++) {
-    const r = randomUnit(n);
+    const r = randomUnitOf(key);
     const square = (r * r) % n;
     values[j] = j === column ? (w * square) % n : square;
   }
   return values;
+}
+
+/**
+ * Uniform r in [1, n) with gcd(r, n) = 1. The key holder knows p and q, so two reductions
+ * replace a gcd (about ten times cheaper); a non-unit turns up with probability about 2^-1023.
+ */
+function randomUnitOf(key: PirKeyPair): bigint {
+  for (;;) {
+    const r = randomBelow(key.n);
+    if (r !== 0n && r % key.p !== 0n && r % key.q !== 0n) return r;
+  }
 }
