@@ -1,0 +1,46 @@
+import { describe, expect, it } from 'vitest';
+import { main } from '../../sdk/cli/main.ts';
+import { degrees, parseCommand } from '../../sdk/cli/options.ts';
+
+/** Runs the CLI in-process and collects what it prints. */
+async function run(argv: string[]) {
+  const out: string[] = [];
+  const err: string[] = [];
+  const code = await main(argv, (l) => out.push(l), (l) => err.push(l));
+  return { code, out: out.join('\n'), err: err.join('\n') };
+}
+
+describe('nearveil command line', () => {
+  it('reads a negative number after a flag as its value (western longitudes)', () => {
+    const { values } = parseCommand('query', ['--lat', '45.5', '--lon', '-111.42', '--dataset', 'x'], {
+      lat: { type: 'string' },
+      lon: { type: 'string' },
+      dataset: { type: 'string' },
+    });
+    expect(values).toEqual({ lat: '45.5', lon: '-111.42', dataset: 'x' });
+  });
+
+  it('checks coordinates: WGS 84 latitude within [-90, 90], longitude within [-180, 180]', () => {
+    expect(degrees('-90', '--lat', -90, 90)).toBe(-90);
+    expect(degrees('179.999', '--lon', -180, 180)).toBe(179.999);
+    expect(() => degrees('90.0001', '--lat', -90, 90)).toThrow('--lat: expected decimal degrees between -90 and 90, got "90.0001"');
+    expect(() => degrees('12e1', '--lat', -90, 90)).toThrow(/got "12e1"/);
+    expect(() => degrees('north', '--lat', -90, 90)).toThrow(/got "north"/);
+    expect(() => degrees(undefined, '--lon', -180, 180)).toThrow('--lon is required');
+  });
+
+  it('answers usage mistakes with exit code 2 and one line naming the flag', async () => {
+    expect(await run(['frobnicate'])).toMatchObject({ code: 2, err: expect.stringMatching(/unknown command "frobnicate"/) });
+    expect(await run(['query', '--lat', '45', '--lon', '-111'])).toMatchObject({ code: 2, err: 'nearveil: --dataset is required: the slug of the dataset to ask' });
+    expect(await run(['query', '--dataset', 'x', '--lat', '45', '--lon', '-111', '--colour'])).toMatchObject({ code: 2, err: expect.stringMatching(/Unknown option '--colour'/) });
+    expect(await run(['import', '--dataset', 'x'])).toMatchObject({ code: 2, err: 'nearveil: import: expected one FILE, got none' });
+    expect(await run(['import', 'a.csv', '--dataset', 'Bad Slug'])).toMatchObject({ code: 2, err: expect.stringMatching(/--dataset: use 1-63 lowercase/) });
+  });
+
+  it('prints help listing both commands', async () => {
+    const help = await run(['help']);
+    expect(help.code).toBe(0);
+    expect(help.out).toMatch(/nearveil query --dataset SLUG --lat DEG --lon DEG/);
+    expect(help.out).toMatch(/nearveil import FILE --dataset SLUG/);
+  });
+});
