@@ -1,0 +1,61 @@
+import { z } from 'zod';
+import { LAT_BITS, LON_BITS } from './quantise.ts';
+
+/**
+ * The public manifest of one built version: everything a client needs to find its region, ask
+ * for the right column and decode the answer. Field by field in MANIFEST.md (same folder).
+ * The cross-field rules below are the invariants locate.ts and candidates.ts rely on.
+ */
+const count = z.number().int().min(1).max(2 ** 32 - 1);
+
+export const GridLayoutSchema = z
+  .object({
+    kind: z.literal('grid'),
+    latMin: z.number().min(-90).max(90),
+    latMax: z.number().min(-90).max(90),
+    lonMin: z.number().min(-180).lt(180),
+    lonMax: z.number().finite(),
+    rows: count,
+    cols: count,
+  })
+  .refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' })
+  .refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, {
+    error: 'layout: expected lonMin < lonMax <= lonMin + 360',
+  });
+
+export const RecordSchema = z
+  .object({
+    indexBits: z.number().int().min(1).max(31),
+    latBits: z.literal(LAT_BITS),
+    lonBits: z.literal(LON_BITS),
+    slotBits: count,
+    slotsPerRegion: count,
+    regionBits: count,
+  })
+  .refine((r) => r.slotBits === r.indexBits + r.latBits + r.lonBits, { error: 'record: expected slotBits = indexBits + latBits + lonBits' })
+  .refine((r) => r.regionBits === r.slotBits * r.slotsPerRegion, { error: 'record: expected regionBits = slotBits * slotsPerRegion' });
+
+export const ManifestSchema = z
+  .object({
+    format: z.literal('nearveil-manifest'),
+    formatVersion: z.literal(1),
+    dataset: z.string().min(1),
+    version: z.number().int().min(1),
+    siteCount: count,
+    contentHash: z.string().regex(/^[0-9a-f]{64}$/),
+    modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
+    layout: GridLayoutSchema,
+    record: RecordSchema,
+    matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0) }),
+    siteIds: z.array(z.string().min(1)),
+  })
+  .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
+  .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to leave an empty-slot value' })
+  .refine((m) => m.matrix.rows === m.matrix.regionsPerColumn * m.record.regionBits, {
+    error: 'manifest: expected matrix.rows = regionsPerColumn * regionBits',
+  })
+  .refine((m) => m.matrix.columns === Math.ceil((m.layout.rows * m.layout.cols + 1) / m.matrix.regionsPerColumn), {
+    error: 'manifest: expected matrix.columns = ceil(regions / regionsPerColumn)',
+  });
+
+export type Manifest = z.infer<typeof ManifestSchema>;
