@@ -1,0 +1,83 @@
+import { siteBox } from '../geo/bounding-box.ts';
+import { ManifestSchema, type Manifest } from '../geo/manifest.ts';
+import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
+import { recordLayout } from '../geo/record.ts';
+import type { SiteTable } from '../geo/site-table.ts';
+import { buildSitePoints } from '../geo/site-points.ts';
+import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
+import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
+import { chooseGrid } from './choose-grid.ts';
+import { fillMatrix } from './fill-matrix.ts';
+import { sha256Hex } from './sha256-hex.ts';
+
+export interface BuildResult {
+  manifest: Manifest;
+  matrix: BitMatrix;
+  matrixBlob: Uint8Array<ArrayBuffer>;
+  stats: { regions: number; maxList: number; meanList: number; buildMs: number };
+}
+
+/** Moduli a client may use against this version (see the design's protocol section). */
+const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
+
+/**
+ * Builds one version of a site table: quantised coordinates, a grid layout with exact candidate
+ * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
+ * Deterministic: the same table and meta give the same blob, hash and manifest; only
+ * stats.buildMs varies. Site index = position in `table.sites`.
+ * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
+ * ManifestSchema before it is returned.
+ */
+export async function buildVersion(
+  table: SiteTable,
+  meta: { dataset: string; version: number },
+): Promise<BuildResult> {
+  const started = performance.now();
+  const n = table.sites.length;
+  if (n < 1) throw new RangeError('buildVersion: expected at least one site, got 0');
+  if (typeof meta.dataset !== 'string' || meta.dataset === '') {
+    throw new RangeError(`buildVersion: expected a dataset name, got ${JSON.stringify(meta.dataset)}`);
+  }
+  if (!Number.isSafeInteger(meta.version) || meta.version < 1) {
+    throw new RangeError(`buildVersion: expected version >= 1, got ${meta.version}`);
+  }
+  const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
+  const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
+  const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
+  const points = buildSitePoints(lats, lons);
+  const slotBits = recordLayout(n, 1).slotBits;
+  const choice = chooseGrid(points, siteBox(lats, lons), slotBits);
+  const record = recordLayout(n, choice.slotsPerRegion);
+  const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
+  const matrixBlob = new Uint8Array(encodeMatrixBlob(matrix));
+  const manifest = ManifestSchema.parse({
+    format: 'nearveil-manifest',
+    formatVersion: 1,
+    dataset: meta.dataset,
+    version: meta.version,
+    siteCount: n,
+    contentHash: await sha256Hex(matrixBlob),
+    modulusBits: MODULUS_BITS,
+    layout: choice.layout,
+    record,
+    matrix: {
+      rows: matrix.rows,
+      columns: matrix.columns,
+      regionsPerColumn: choice.packing.regionsPerColumn,
+      ones: countOnes(matrix),
+    },
+    siteIds: table.sites.map((s) => s.id),
+  } satisfies Manifest);
+  const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
+  return {
+    manifest,
+    matrix,
+    matrixBlob,
+    stats: {
+      regions: choice.lists.length,
+      maxList: record.slotsPerRegion,
+      meanList: total / choice.lists.length,
+      buildMs: performance.now() - started,
+    },
+  };
+}
