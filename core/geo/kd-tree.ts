@@ -101,32 +101,51 @@ function dist2(c: Float64Array, i: number, x: number, y: number, z: number): num
   return dx * dx + dy * dy + dz * dz;
 }
 
+// Scratch stacks for the queries below (one query runs at a time in a JS thread; a query never
+// calls another). Each step pops one range and pushes at most two halves of it, so the stack
+// never holds more than log2(size) + 2 ranges, far below the capacity.
+const STACK = 256;
+const stackLo = new Int32Array(STACK);
+const stackHi = new Int32Array(STACK);
+const stackBound = new Float64Array(STACK);
+
 /** Squared chord from (x, y, z) to the nearest point of the tree. Exact (no approximation). */
 export function nearestChord2(t: UnitKdTree, x: number, y: number, z: number): number {
-  const q = [x, y, z] as const;
+  const c = t.coords;
   let best = Infinity;
-  const visit = (lo: number, hi: number): void => {
+  let top = 1;
+  stackLo[0] = 0;
+  stackHi[0] = t.size - 1;
+  stackBound[0] = 0;
+  while (top > 0) {
+    top--;
+    if (stackBound[top]! >= best) continue;
+    const lo = stackLo[top]!;
+    const hi = stackHi[top]!;
     if (hi - lo + 1 <= LEAF) {
       for (let i = lo; i <= hi; i++) {
-        const d = dist2(t.coords, i, x, y, z);
+        const d = dist2(c, i, x, y, z);
         if (d < best) best = d;
       }
-      return;
+      continue;
     }
     const m = (lo + hi) >> 1;
-    const d = dist2(t.coords, m, x, y, z);
+    const d = dist2(c, m, x, y, z);
     if (d < best) best = d;
     const ax = t.axis[m]!;
-    const diff = q[ax]! - t.coords[3 * m + ax]!;
-    if (diff <= 0) {
-      visit(lo, m - 1);
-      if (diff * diff < best) visit(m + 1, hi);
-    } else {
-      visit(m + 1, hi);
-      if (diff * diff < best) visit(lo, m - 1);
-    }
-  };
-  visit(0, t.size - 1);
+    const diff = (ax === 0 ? x : ax === 1 ? y : z) - c[3 * m + ax]!;
+    // Far side first onto the stack, so the near side is searched first.
+    const farLo = diff <= 0 ? m + 1 : lo;
+    const farHi = diff <= 0 ? hi : m - 1;
+    stackLo[top] = farLo;
+    stackHi[top] = farHi;
+    stackBound[top] = diff * diff;
+    top++;
+    stackLo[top] = diff <= 0 ? lo : m + 1;
+    stackHi[top] = diff <= 0 ? m - 1 : hi;
+    stackBound[top] = 0;
+    top++;
+  }
   return best;
 }
 
@@ -136,32 +155,40 @@ export function nearestChord2(t: UnitKdTree, x: number, y: number, z: number): n
  * caller can tell "few" from "many" cheaply; then `out` holds limit + 1 of them.
  */
 export function pointsWithin(t: UnitKdTree, x: number, y: number, z: number, r2: number, out: number[], limit = Infinity): number[] {
-  const q = [x, y, z] as const;
-  const visit = (lo: number, hi: number): boolean => {
+  const c = t.coords;
+  let top = 1;
+  stackLo[0] = 0;
+  stackHi[0] = t.size - 1;
+  while (top > 0) {
+    top--;
+    const lo = stackLo[top]!;
+    const hi = stackHi[top]!;
     if (hi - lo + 1 <= LEAF) {
       for (let i = lo; i <= hi; i++) {
-        if (dist2(t.coords, i, x, y, z) <= r2) {
+        if (dist2(c, i, x, y, z) <= r2) {
           out.push(t.ids[i]!);
-          if (out.length > limit) return false;
+          if (out.length > limit) return out;
         }
       }
-      return true;
+      continue;
     }
     const m = (lo + hi) >> 1;
-    if (dist2(t.coords, m, x, y, z) <= r2) {
+    if (dist2(c, m, x, y, z) <= r2) {
       out.push(t.ids[m]!);
-      if (out.length > limit) return false;
+      if (out.length > limit) return out;
     }
     const ax = t.axis[m]!;
-    const diff = q[ax]! - t.coords[3 * m + ax]!;
+    const diff = (ax === 0 ? x : ax === 1 ? y : z) - c[3 * m + ax]!;
     if (diff <= 0 || diff * diff <= r2) {
-      if (!visit(lo, m - 1)) return false;
+      stackLo[top] = lo;
+      stackHi[top] = m - 1;
+      top++;
     }
     if (diff >= 0 || diff * diff <= r2) {
-      if (!visit(m + 1, hi)) return false;
+      stackLo[top] = m + 1;
+      stackHi[top] = hi;
+      top++;
     }
-    return true;
-  };
-  visit(0, t.size - 1);
+  }
   return out;
 }

@@ -28,10 +28,13 @@ export function recordLayout(siteCount: number, slotsPerRegion: number): RecordL
   return { indexBits, latBits: LAT_BITS, lonBits: LON_BITS, slotBits, slotsPerRegion, regionBits: slotBits * slotsPerRegion };
 }
 
-/** Writes `value` (non-negative integer below 2^bits) MSB first through `put(offset, bit)`. */
+/**
+ * Writes `value` (an integer in [0, 2^bits), bits <= 31) MSB first through `put(offset, bit)`;
+ * only the 1-bits are written, so the target must start out zero.
+ */
 export function writeBits(put: (offset: number, bit: 0 | 1) => void, offset: number, bits: number, value: number): void {
   for (let b = 0; b < bits; b++) {
-    if (Math.floor(value / 2 ** (bits - 1 - b)) % 2 === 1) put(offset + b, 1);
+    if ((value >>> (bits - 1 - b)) & 1) put(offset + b, 1);
   }
 }
 
