@@ -37,6 +37,7 @@ export const STOP_HALF_LENGTH_M = 0.5;
 const SLACK_M = 0.01;
 const DOT_TOLERANCE = 1e-12;
 const PRUNE_LIMIT = 8;
+const NEAR_ANTIPODE_RAD = 3;
 /** Below this half-length a piece fetches all of S, so crowds of near-coincident sites end. */
 const FETCH_ALL_HALF_LENGTH_M = 1000;
 const SPOT_CHORD = 0.01 / EARTH_MEAN_RADIUS_M;
@@ -55,7 +56,9 @@ function resolve(points: SitePoints, seg: Segment, a: number, b: number, out: Se
   const [x, y, z] = seg.meridian ? unitVector(mid, seg.fixed) : unitVector(seg.fixed, mid);
   const half = halfLengthM(seg, a, b);
   const nearest = angleOfChord(Math.sqrt(nearestChord2(points.tree, x, y, z)));
-  const reach = chordOfAngle(nearest + (2 * half + SLACK_M) / EARTH_MEAN_RADIUS_M);
+  // Near the antipode a chord resolves angles only to about 1e-8 rad: widen the slack there.
+  const slack = SLACK_M / EARTH_MEAN_RADIUS_M + (nearest > NEAR_ANTIPODE_RAD ? 1e-6 : 0);
+  const reach = chordOfAngle(nearest + (2 * half) / EARTH_MEAN_RADIUS_M + slack);
   const last = half < STOP_HALF_LENGTH_M;
   found.length = 0;
   const limit = last || half < FETCH_ALL_HALF_LENGTH_M ? Infinity : PRUNE_LIMIT;
