@@ -20,8 +20,9 @@ import type { SitePoints } from './site-points.ts';
  *     end or where tan t = beta / alpha. If at most two sites survive, they are exactly the
  *     nearest sites on the piece (with two, each beats the other somewhere, so each is nearest
  *     somewhere).
- *   Also stop, accepting all survivors, when they sit in at most two spots of about 1 cm
- *     (near-coincident sites, which no split can tell apart).
+ *   Also stop, accepting all survivors, when they sit in at most two spots of 0.5 m (sites that
+ *     close are told apart by dot products only near them, so splitting far away would run to
+ *     the stop length all along the piece).
  *   Else split in halves, until h < STOP_HALF_LENGTH_M; then all surviving sites are accepted.
  * Tolerances (SLACK_M on distances, DOT_TOLERANCE on dot products) only ever add candidates, so
  * floating-point rounding cannot drop a true one. Output: location indices, added to `out`.
@@ -40,7 +41,8 @@ const PRUNE_LIMIT = 8;
 const NEAR_ANTIPODE_RAD = 3;
 /** Below this half-length a piece fetches all of S, so crowds of near-coincident sites end. */
 const FETCH_ALL_HALF_LENGTH_M = 1000;
-const SPOT_CHORD = 0.01 / EARTH_MEAN_RADIUS_M;
+/** Sites closer than this (below the 1.19 m coordinate step) count as one spot. */
+const SPOT_CHORD = 0.5 / EARTH_MEAN_RADIUS_M;
 
 export function segmentLocations(points: SitePoints, seg: Segment, out: Set<number>): void {
   resolve(points, seg, seg.from, seg.to, out, []);
@@ -75,9 +77,9 @@ function resolve(points: SitePoints, seg: Segment, a: number, b: number, out: Se
 }
 
 /**
- * True when the sites fall within two spots of chord SPOT_CHORD (about 1 cm). Sites that close
- * tie within rounding everywhere, so splitting could never separate them; accepting all of a
- * set is always sound (the set holds every nearest site of the piece), only less tight.
+ * True when the sites fall within two spots of chord SPOT_CHORD (0.5 m). Accepting all of a set
+ * is always sound (the set holds every nearest site of the piece), only less tight, and sites
+ * that close are all but tied wherever they matter.
  */
 function atMostTwoSpots(points: SitePoints, set: readonly number[]): boolean {
   const v = points.xyz;
