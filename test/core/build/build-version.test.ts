@@ -35,6 +35,8 @@ function bruteNearest(table: SiteTable, lat: number, lon: number): number {
   return best;
 }
 
+const wrapLon = (lon: number) => ((((lon + 180) % 360) + 360) % 360) - 180;
+
 function prng(seed: number): () => number {
   let a = seed >>> 0;
   return () => {
@@ -102,6 +104,25 @@ describe('buildVersion', () => {
             ? [s.lat + (rand() - 0.5) * 0.02, s.lon + (rand() - 0.5) * 0.02]
             : [rand() * 180 - 90, rand() * 360 - 180];
       expect({ lat, lon, index: privateNearest(build, lat, lon) }).toEqual({ lat, lon, index: bruteNearest(table, lat, lon) });
+    }
+  });
+
+  it('is exact for sets across the antimeridian and around a pole', async () => {
+    // Demo data (invented): island clinics either side of 180 deg, and field huts near the south pole.
+    const rand = prng(5);
+    const islands = Array.from({ length: 150 }, () => [-25 + rand() * 15, wrapLon(172 + rand() * 16)] as const);
+    const huts = Array.from({ length: 150 }, () => [-90 + rand() * 4, rand() * 360 - 180] as const);
+    for (const pts of [islands, [...huts, [-90, 0] as const]]) {
+      const table = tableOf(pts);
+      const build = await buildVersion(table, { dataset: 'demo-edges', version: 1 });
+      if (pts === islands) expect(build.manifest.layout.lonMax).toBeGreaterThan(180);
+      else expect(build.manifest.layout.latMin).toBe(-90);
+      for (let i = 0; i < 300; i++) {
+        const [a, b] = pts[i % pts.length]!;
+        const lat = i % 2 ? Math.max(-90, Math.min(90, a + (rand() - 0.5) * 4)) : Math.asin(2 * rand() - 1) * (180 / Math.PI);
+        const lon = i % 2 ? wrapLon(b + (rand() - 0.5) * 8) : rand() * 360 - 180;
+        expect({ lat, lon, index: privateNearest(build, lat, lon) }).toEqual({ lat, lon, index: bruteNearest(table, lat, lon) });
+      }
     }
   });
 
