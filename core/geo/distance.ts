@@ -14,15 +14,24 @@ export const EARTH_MEAN_RADIUS_M = 6371008.8;
 export const RAD = Math.PI / 180;
 
 /**
- * Great-circle distance in metres by the haversine formula (common practice). The haversine
- * term is clamped to [0, 1] so rounding near antipodal points never reaches asin(x > 1) = NaN.
+ * Great-circle distance in metres, from the central angle atan2(|u x v|, u . v) written in
+ * latitudes and longitudes (the spherical case of Vincenty's formula; common practice). Unlike
+ * haversine (asin) or the law of cosines (acos) it keeps full precision at every separation,
+ * antipodes included, so the triangle inequality holds to rounding everywhere.
  * Inputs are degrees; no range check (callers validate), NaN in gives NaN out.
  */
 export function greatCircleMeters(lat1: number, lon1: number, lat2: number, lon2: number): number {
-  const sinDLat = Math.sin(((lat2 - lat1) * RAD) / 2);
-  const sinDLon = Math.sin(((lon2 - lon1) * RAD) / 2);
-  const h = sinDLat * sinDLat + Math.cos(lat1 * RAD) * Math.cos(lat2 * RAD) * sinDLon * sinDLon;
-  return 2 * EARTH_MEAN_RADIUS_M * Math.asin(Math.sqrt(Math.min(1, Math.max(0, h))));
+  const phi1 = lat1 * RAD;
+  const phi2 = lat2 * RAD;
+  const dLon = (lon2 - lon1) * RAD;
+  const cos1 = Math.cos(phi1);
+  const cos2 = Math.cos(phi2);
+  const sin1 = Math.sin(phi1);
+  const sin2 = Math.sin(phi2);
+  const cosDLon = Math.cos(dLon);
+  const cross = Math.hypot(cos2 * Math.sin(dLon), cos1 * sin2 - sin1 * cos2 * cosDLon);
+  const dot = sin1 * sin2 + cos1 * cos2 * cosDLon;
+  return EARTH_MEAN_RADIUS_M * Math.atan2(cross, dot);
 }
 
 /** Unit vector (x, y, z) of a point given in degrees; x toward (0, 0), z toward the north pole. */
