@@ -14,7 +14,6 @@ export function fillMatrix(
   pack: Packing,
 ): BitMatrix {
   const m = createBitMatrix(pack.rows, pack.columns);
-  const empty = 2 ** record.indexBits - 1;
   lists.forEach((list, region) => {
     if (list.length > record.slotsPerRegion) {
       throw new RangeError(`fillMatrix: expected at most ${record.slotsPerRegion} candidates, got ${list.length} in region ${region}`);
@@ -25,12 +24,9 @@ export function fillMatrix(
     for (let slot = 0; slot < record.slotsPerRegion; slot++) {
       const at = slot * record.slotBits;
       const site = list[slot];
-      if (site === undefined) {
-        writeBits(put, at, record.indexBits, empty);
-        continue;
-      }
+      if (site === undefined) continue; // empty slots stay all zeros
       const [lat, lon] = codes[site]!;
-      writeBits(put, at, record.indexBits, site);
+      writeBits(put, at, record.indexBits, site + 1);
       writeBits(put, at + record.indexBits, record.latBits, lat);
       writeBits(put, at + record.indexBits + record.latBits, record.lonBits, lon);
     }

@@ -21,12 +21,12 @@ export function decodeCandidates(manifest: Manifest, regionBits: Uint8Array): Ca
   if (!(regionBits instanceof Uint8Array) || regionBits.length !== r.regionBits) {
     throw new RangeError(`decodeCandidates: expected ${r.regionBits} bits, got ${regionBits?.length}`);
   }
-  const empty = 2 ** r.indexBits - 1;
   const out: Candidate[] = [];
   for (let s = 0; s < r.slotsPerRegion; s++) {
     const at = s * r.slotBits;
-    const index = readBits(regionBits, at, r.indexBits);
-    if (index === empty) continue;
+    const stored = readBits(regionBits, at, r.indexBits);
+    if (stored === 0) continue; // empty slot
+    const index = stored - 1;
     if (index >= manifest.siteCount) {
       throw new RangeError(`decodeCandidates: expected a site index below ${manifest.siteCount}, got ${index} in slot ${s}`);
     }

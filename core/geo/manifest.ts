@@ -50,7 +50,7 @@ export const ManifestSchema = z
     siteIds: z.array(z.string().min(1)),
   })
   .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
-  .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to leave an empty-slot value' })
+  .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to hold site index + 1' })
   .refine((m) => m.matrix.rows === m.matrix.regionsPerColumn * m.record.regionBits, {
     error: 'manifest: expected matrix.rows = regionsPerColumn * regionBits',
   })

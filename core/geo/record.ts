@@ -2,9 +2,10 @@ import { LAT_BITS, LON_BITS } from './quantise.ts';
 
 /**
  * Slot layout of a candidate list. A region's bits are slotsPerRegion slots of slotBits each;
- * a slot is, most significant bit first: site index (indexBits), quantised latitude (24 bits),
- * quantised longitude (25 bits). The index value 2^indexBits - 1 (all ones) marks an empty slot,
- * whose coordinate bits are zero; indexBits = ceil(log2(siteCount + 1)) leaves room for it.
+ * a slot is, most significant bit first: site index + 1 (indexBits), quantised latitude (24 bits),
+ * quantised longitude (25 bits). An empty slot is all zeros (stored index 0), so padding adds no
+ * 1-bits: the plain answer costs one product per 1-bit, and most slots are padding.
+ * indexBits = ceil(log2(siteCount + 1)) leaves room for the shift by one.
  * Filled slots come first, in ascending site index.
  */
 export interface RecordLayout {

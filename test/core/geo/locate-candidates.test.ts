@@ -67,12 +67,12 @@ describe('decodeCandidates and nearestCandidates', () => {
           const put = (offset: number, bit: 0 | 1) => (bits[offset] = bit);
           const expected: Candidate[] = coords.map(([lat, lon], k) => {
             const index = (k * 7919) % siteCount;
-            writeBits(put, k * r.slotBits, r.indexBits, index);
+            writeBits(put, k * r.slotBits, r.indexBits, index + 1); // stored as index + 1
             writeBits(put, k * r.slotBits + r.indexBits, 24, quantiseLat(lat));
             writeBits(put, k * r.slotBits + r.indexBits + 24, 25, quantiseLon(lon));
             return { index, lat: dequantiseLat(quantiseLat(lat)), lon: dequantiseLon(quantiseLon(lon)) };
           });
-          for (let k = coords.length; k < r.slotsPerRegion; k++) writeBits(put, k * r.slotBits, r.indexBits, 2 ** r.indexBits - 1);
+          // Padding slots stay all zeros: stored index 0 is an empty slot.
           expect(decodeCandidates(m, bits)).toEqual(expected);
         },
       ),
@@ -83,7 +83,7 @@ describe('decodeCandidates and nearestCandidates', () => {
     const m = manifestFor(5, 2, 1);
     expect(() => decodeCandidates(m, new Uint8Array(3))).toThrow(/expected 104 bits, got 3/);
     const bits = new Uint8Array(m.record.regionBits);
-    writeBits((o, b) => (bits[o] = b), 0, m.record.indexBits, 6);
+    writeBits((o, b) => (bits[o] = b), 0, m.record.indexBits, 7); // stored index + 1
     expect(() => decodeCandidates(m, bits)).toThrow(/expected a site index below 5, got 6/);
   });
 
