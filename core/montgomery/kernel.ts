@@ -1,0 +1,199 @@
+// Runtime-free wrapper around the WebAssembly Montgomery kernel (scripts/montgomery/generate-kernel.ts
+// writes core/montgomery/kernel.wasm). Products are computed four at a time, one per SIMD lane.
+import { modInverse } from '../bigint/modular.ts';
+
+export interface MontgomeryKernel {
+  readonly modulus: bigint;
+  /** Number of operand slots currently allocated (grows with ensureSlots). */
+  readonly slots: number;
+  ensureSlots(count: number): void;
+  /** Stores x (any bigint in [0, n)) in slot s, in Montgomery form. */
+  set(slot: number, x: bigint): void;
+  /** Reads slot s back as an ordinary residue in [0, n). */
+  get(slot: number): bigint;
+  /** Sets slot s to the Montgomery form of 1. */
+  setOne(slot: number): void;
+  copy(dst: number, src: number): void;
+  /** out[i] = left[i] * right[i] (Montgomery product) for i < count; out slots must not alias
+   *  left/right slots of the same call. Processes four products at a time in SIMD lanes. */
+  multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
+}
+
+const LIMB_BITS = 12;
+const LIMB_MASK = (1 << LIMB_BITS) - 1;
+
+/** Limb count for each served modulus size: R = 2^(12L) must exceed 4n. */
+const LIMBS = { 2048: 171, 3072: 257 } as const;
+
+/**
+ * The kernel size a modulus needs: 2048 for odd n of at most 2048 bits, 3072 up to 3072 bits.
+ * One module (core/montgomery/kernel.wasm) serves both sizes; the size picks the limb count.
+ * Throws TypeError for a non-bigint and RangeError for an even n, n < 3, or n above 3072 bits.
+ */
+export function kernelBitsFor(n: bigint): 2048 | 3072 {
+  if (typeof n !== 'bigint') throw new TypeError(`kernelBitsFor: expected bigint modulus, got ${typeof n}`);
+  if (n < 3n || (n & 1n) === 0n) throw new RangeError(`kernelBitsFor: expected odd modulus >= 3, got ${n}`);
+  const bits = n.toString(2).length;
+  if (bits <= 2048) return 2048;
+  if (bits <= 3072) return 3072;
+  throw new RangeError(`kernelBitsFor: expected a modulus of at most 3072 bits, got ${bits} bits`);
+}
+
+interface KernelExports {
+  memory: WebAssembly.Memory;
+  multiply: (groups: number, limbs: number, slotBytes: number) => void;
+  maxLimbs: WebAssembly.Global;
+  modulusShifted: WebAssembly.Global;
+  negInverse: WebAssembly.Global;
+  lowLimb: WebAssembly.Global;
+  index: WebAssembly.Global;
+  indexCapacity: WebAssembly.Global;
+  slots: WebAssembly.Global;
+}
+
+function kernelExports(module: WebAssembly.Module): KernelExports {
+  if (!(module instanceof WebAssembly.Module)) {
+    throw new TypeError(`createMontgomeryKernel: expected WebAssembly.Module, got ${typeof module}`);
+  }
+  const e = new WebAssembly.Instance(module, {}).exports as Partial<KernelExports>;
+  const globals = ['maxLimbs', 'modulusShifted', 'negInverse', 'lowLimb', 'index', 'indexCapacity', 'slots'] as const;
+  if (!(e.memory instanceof WebAssembly.Memory) || typeof e.multiply !== 'function' || globals.some((g) => !(e[g] instanceof WebAssembly.Global))) {
+    throw new TypeError('createMontgomeryKernel: expected the Montgomery kernel module, got a module without its exports');
+  }
+  return e as KernelExports;
+}
+
+function checkSlotIndex(fn: string, slot: number, slots: number): void {
+  if (!Number.isInteger(slot) || slot < 0 || slot >= slots) {
+    throw new RangeError(`${fn}: expected slot index in [0, ${slots}), got ${slot}`);
+  }
+}
+
+/**
+ * A kernel instance for the odd modulus n (3 <= n, at most 3072 bits). Slot values are kept in
+ * Montgomery form below 2n (R = 2^(12L) > 4n, so products of such values stay below 2n).
+ * Variable-time only in the slot indices and count (the limb arithmetic has no data-dependent
+ * branches). Throws TypeError for a wrong module or argument types, RangeError for an even n, a
+ * size the module does not serve, or out-of-range slots and values.
+ */
+export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): MontgomeryKernel {
+  const limbs = LIMBS[kernelBitsFor(n)];
+  const e = kernelExports(module);
+  if (limbs > (e.maxLimbs.value as number)) {
+    throw new RangeError(`createMontgomeryKernel: expected a module serving ${limbs} limbs, got at most ${e.maxLimbs.value}`);
+  }
+  const padded = Math.ceil(limbs / 4) * 4;
+  const slotBytes = padded * 4;
+  const hexDigits = (limbs * LIMB_BITS) / 4;
+  const shift = BigInt(limbs * LIMB_BITS);
+  const rModN = (1n << shift) % n;
+  const rInverse = modInverse(rModN, n);
+  const indexBase = (e.index.value as number) / 4;
+  const capacity = e.indexCapacity.value as number;
+  const slotBase = (e.slots.value as number) / 4;
+  let words = new Uint32Array(e.memory.buffer);
+  let slots = Math.floor((words.length - slotBase) / padded);
+  let stamps = new Uint32Array(slots);
+  let stamp = 0;
+
+  // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^12 and n_0.
+  const nLimbs = toLimbs(n, hexDigits, limbs);
+  for (let j = 0; j < limbs; j++) words.fill(nLimbs[j]! << 16, (e.modulusShifted.value as number) / 4 + 4 * j, (e.modulusShifted.value as number) / 4 + 4 * j + 4);
+  const negInverse = 4096 - Number(modInverse(n & 0xfffn, 4096n));
+  words.fill(negInverse & LIMB_MASK, (e.negInverse.value as number) / 4, (e.negInverse.value as number) / 4 + 4);
+  words.fill(nLimbs[0]!, (e.lowLimb.value as number) / 4, (e.lowLimb.value as number) / 4 + 4);
+
+  const writeValue = (slot: number, value: bigint) => {
+    const limbValues = toLimbs(value, hexDigits, limbs);
+    const at = slotBase + slot * padded;
+    words.set(limbValues, at);
+    words.fill(0, at + limbs, at + padded);
+  };
+
+  return {
+    modulus: n,
+    get slots() {
+      return slots;
+    },
+    ensureSlots(count: number) {
+      if (!Number.isSafeInteger(count) || count < 0) throw new RangeError(`ensureSlots: expected integer count >= 0, got ${count}`);
+      if (count <= slots) return;
+      const neededBytes = (slotBase + count * padded) * 4;
+      e.memory.grow(Math.ceil((neededBytes - e.memory.buffer.byteLength) / 65536));
+      words = new Uint32Array(e.memory.buffer);
+      slots = Math.floor((words.length - slotBase) / padded);
+      const grown = new Uint32Array(slots);
+      grown.set(stamps);
+      stamps = grown;
+    },
+    set(slot: number, x: bigint) {
+      checkSlotIndex('set', slot, slots);
+      if (typeof x !== 'bigint') throw new TypeError(`set: expected bigint value, got ${typeof x}`);
+      if (x < 0n || x >= n) throw new RangeError(`set: expected value in [0, n), got ${x < 0n ? 'a negative value' : 'a value >= n'}`);
+      writeValue(slot, (x << shift) % n);
+    },
+    get(slot: number) {
+      checkSlotIndex('get', slot, slots);
+      const at = slotBase + slot * padded;
+      let hex = '';
+      for (let j = limbs - 1; j >= 0; j--) hex += words[at + j]!.toString(16).padStart(3, '0');
+      return (BigInt('0x' + hex) * rInverse) % n;
+    },
+    setOne(slot: number) {
+      checkSlotIndex('setOne', slot, slots);
+      writeValue(slot, rModN);
+    },
+    copy(dst: number, src: number) {
+      checkSlotIndex('copy', dst, slots);
+      checkSlotIndex('copy', src, slots);
+      words.copyWithin(slotBase + dst * padded, slotBase + src * padded, slotBase + (src + 1) * padded);
+    },
+    multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number) {
+      for (const [name, a] of [['out', out], ['left', left], ['right', right]] as const) {
+        if (!(a instanceof Uint32Array)) throw new TypeError(`multiplyMany: expected Uint32Array ${name}, got ${typeof a}`);
+      }
+      if (!Number.isSafeInteger(count) || count < 0 || count > out.length || count > left.length || count > right.length) {
+        throw new RangeError(`multiplyMany: expected integer count in [0, ${Math.min(out.length, left.length, right.length)}], got ${count}`);
+      }
+      stamp = (stamp + 1) >>> 0;
+      if (stamp === 0) {
+        stamps.fill(0);
+        stamp = 1;
+      }
+      for (let i = 0; i < count; i++) {
+        const o = out[i]!;
+        if (o >= slots || left[i]! >= slots || right[i]! >= slots) {
+          throw new RangeError(`multiplyMany: expected slot indices below ${slots}, got out ${o}, left ${left[i]}, right ${right[i]} at ${i}`);
+        }
+        stamps[o] = stamp;
+      }
+      for (let i = 0; i < count; i++) {
+        if (stamps[left[i]!] === stamp || stamps[right[i]!] === stamp) {
+          throw new RangeError(`multiplyMany: expected out slots distinct from left and right slots, got slot ${stamps[left[i]!] === stamp ? left[i] : right[i]} in both at ${i}`);
+        }
+      }
+      for (let start = 0; start < count; start += capacity) {
+        const size = Math.min(capacity, count - start);
+        words.set(out.subarray(start, start + size), indexBase);
+        words.set(left.subarray(start, start + size), indexBase + capacity);
+        words.set(right.subarray(start, start + size), indexBase + 2 * capacity);
+        const groups = Math.ceil(size / 4);
+        // Idle lanes of the last group repeat the first product and write to the scratch slot (-1).
+        for (let i = size; i < groups * 4; i++) {
+          words[indexBase + i] = 0xffffffff;
+          words[indexBase + capacity + i] = left[start]!;
+          words[indexBase + 2 * capacity + i] = right[start]!;
+        }
+        e.multiply(groups, limbs, slotBytes);
+      }
+    },
+  };
+}
+
+/** Little-endian 12-bit limbs of 0 <= x < 2^(12 * count), read three hex digits at a time. */
+function toLimbs(x: bigint, hexDigits: number, count: number): Uint32Array {
+  const hex = x.toString(16).padStart(hexDigits, '0');
+  const out = new Uint32Array(count);
+  for (let j = 0; j < count; j++) out[j] = parseInt(hex.slice(hexDigits - 3 * j - 3, hexDigits - 3 * j), 16);
+  return out;
+}

@@ -1,0 +1,222 @@
+/**
+ * Generates the Montgomery multiplication kernel (WebAssembly text) and assembles it with wabt.
+ *
+ *   npx tsx scripts/montgomery/generate-kernel.ts      writes core/montgomery/kernel.wasm
+ *
+ * One module serves both 2048- and 3072-bit moduli: the limb count is an argument of `multiply`
+ * and the code loops (8 steps unrolled), so the module stays a few kilobytes. The binary is committed because Workers
+ * refuse to compile modules from bytes at run time; test/core/montgomery checks that regenerating
+ * gives the committed bytes exactly.
+ *
+ * Method (product scanning, four independent products in the four i32 lanes of a v128):
+ * - numbers are L limbs of 12 bits; with R = 2^(12L) > 4n, inputs below 2n give outputs below 2n,
+ *   so values stay in Montgomery form and no final subtraction is needed;
+ * - X[i] holds, per lane, the pair (a_i, q_i) as two i16 and Y[j] the pair (b_j, n_j), so one
+ *   i32x4.dot_i16x8_s adds a_i*b_j + q_i*n_j for all four lanes (each below 2^25);
+ * - column sums are split into a low 12-bit part and a carry only every 15 blocks of 8 steps, so
+ *   an i32 lane never exceeds 2^32 (120 * 2 * 4095^2 + carry < 2^32, read unsigned).
+ */
+import { writeFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import wabtInit from 'wabt';
+
+/** Largest limb count served (3072-bit moduli: 12 * 257 = 3084 >= 3072 + 2). */
+export const MAX_LIMBS = 257;
+const MAX_PADDED = 260; // limbs per slot rounded up to a multiple of 4
+const V = 16; // bytes per v128
+
+/** Byte offsets of the fixed areas; exported from the module as immutable globals. */
+export const LAYOUT = (() => {
+  const modulusShifted = 0; // MAX_PADDED vectors: splat(n_j << 16)
+  const negInverse = modulusShifted + MAX_PADDED * V; // splat(-n^-1 mod 2^12)
+  const lowLimb = negInverse + V; // splat(n_0)
+  const yZeros = lowLimb + V; // 8 zero vectors below Y[0]
+  const y = yZeros + 8 * V; // MAX_PADDED vectors: lanes (b_j, n_j)
+  const x = y + MAX_PADDED * V; // MAX_PADDED + 8 vectors: lanes (a_i, q_i), zero above L
+  const out = x + (MAX_PADDED + 8) * V; // MAX_PADDED vectors: result limbs by lane
+  const index = out + MAX_PADDED * V; // three arrays of INDEX_CAPACITY u32: out, left, right
+  const indexCapacity = 1024;
+  const slots = 32768; // slot s at slots + s * slotBytes; slot -1 is the scratch output
+  if (index + 3 * 4 * indexCapacity > slots - MAX_PADDED * 4) throw new Error('layout overlap');
+  return { modulusShifted, negInverse, lowLimb, y, x, out, index, indexCapacity, slots };
+})();
+
+/** i8x16.shuffle lane bytes picking i32 lanes (0-3 from the first operand, 4-7 the second). */
+function pick32(...lanes: number[]): string {
+  return lanes.flatMap((l) => [0, 1, 2, 3].map((b) => l * 4 + b)).join(' ');
+}
+
+/** 4x4 transpose of i32 lanes: $v0..$v3 in, $c0..$c3 out. */
+function transpose(): string {
+  const lo = pick32(0, 4, 1, 5);
+  const hi = pick32(2, 6, 3, 7);
+  const first = pick32(0, 1, 4, 5);
+  const second = pick32(2, 3, 6, 7);
+  return `
+      (local.set $t0 (i8x16.shuffle ${lo} (local.get $v0) (local.get $v1)))
+      (local.set $t1 (i8x16.shuffle ${lo} (local.get $v2) (local.get $v3)))
+      (local.set $t2 (i8x16.shuffle ${hi} (local.get $v0) (local.get $v1)))
+      (local.set $t3 (i8x16.shuffle ${hi} (local.get $v2) (local.get $v3)))
+      (local.set $c0 (i8x16.shuffle ${first} (local.get $t0) (local.get $t1)))
+      (local.set $c1 (i8x16.shuffle ${second} (local.get $t0) (local.get $t1)))
+      (local.set $c2 (i8x16.shuffle ${first} (local.get $t2) (local.get $t3)))
+      (local.set $c3 (i8x16.shuffle ${second} (local.get $t2) (local.get $t3)))`;
+}
+
+/**
+ * Adds sum over the block range of dot(X[px + m], Y[py + 7 - m]) into the column, 8 steps a
+ * block, $blocks blocks; splits the sum into $acc0 (12 bits) and $hi after every 15 blocks.
+ */
+function columnSum(label: string): string {
+  const steps: string[] = [];
+  for (let m = 0; m < 8; m++) {
+    const acc = m % 2 === 0 ? '$acc0' : '$acc1';
+    steps.push(`
+            (local.set ${acc} (i32x4.add (local.get ${acc}) (i32x4.dot_i16x8_s
+              (v128.load offset=${m * V} (local.get $px)) (v128.load offset=${(7 - m) * V} (local.get $py)))))`);
+  }
+  return `
+      (block $${label}_done (loop $${label}_chunk
+        (br_if $${label}_done (i32.eqz (local.get $blocks)))
+        (local.set $nb (select (local.get $blocks) (i32.const 15) (i32.lt_u (local.get $blocks) (i32.const 15))))
+        (local.set $blocks (i32.sub (local.get $blocks) (local.get $nb)))
+        (loop $${label}_block${steps.join('')}
+          (local.set $px (i32.add (local.get $px) (i32.const ${8 * V})))
+          (local.set $py (i32.sub (local.get $py) (i32.const ${8 * V})))
+          (local.set $nb (i32.sub (local.get $nb) (i32.const 1)))
+          (br_if $${label}_block (local.get $nb)))
+        (local.set $acc0 (i32x4.add (local.get $acc0) (local.get $acc1)))
+        (local.set $hi (i32x4.add (local.get $hi) (i32x4.shr_u (local.get $acc0) (i32.const 12))))
+        (local.set $acc0 (v128.and (local.get $acc0) (local.get $mask)))
+        (local.set $acc1 (v128.const i32x4 0 0 0 0))
+        (br $${label}_chunk)))`;
+}
+
+/** The module's text. */
+export function kernelText(): string {
+  const L = LAYOUT;
+  const slotAddress = (field: number, lane: number) =>
+    `(i32.add (i32.const ${L.slots}) (i32.mul (i32.load offset=${field * 4 * L.indexCapacity + lane * 4} (local.get $idx)) (local.get $slotBytes)))`;
+  const gather = (name: string, p: string, dst: number, orWith: string | null) => `
+    (local.set $j (i32.const 0))
+    (loop $${name}
+      (local.set $v0 (v128.load (i32.add (local.get $${p}0) (local.get $j))))
+      (local.set $v1 (v128.load (i32.add (local.get $${p}1) (local.get $j))))
+      (local.set $v2 (v128.load (i32.add (local.get $${p}2) (local.get $j))))
+      (local.set $v3 (v128.load (i32.add (local.get $${p}3) (local.get $j))))${transpose()}
+      (local.set $q (i32.shl (local.get $j) (i32.const 2)))
+${[0, 1, 2, 3]
+  .map((m) => {
+    const value = orWith === null ? `(local.get $c${m})` : `(v128.or (local.get $c${m}) (v128.load offset=${orWith + m * V} (local.get $q)))`;
+    return `      (v128.store offset=${dst + m * V} (local.get $q) ${value})`;
+  })
+  .join('\n')}
+      (local.set $j (i32.add (local.get $j) (i32.const 16)))
+      (br_if $${name} (i32.lt_u (local.get $j) (local.get $slotBytes))))`;
+  return `(module
+  (memory (export "memory") 1)
+  (global (export "maxLimbs") i32 (i32.const ${MAX_LIMBS}))
+  (global (export "modulusShifted") i32 (i32.const ${L.modulusShifted}))
+  (global (export "negInverse") i32 (i32.const ${L.negInverse}))
+  (global (export "lowLimb") i32 (i32.const ${L.lowLimb}))
+  (global (export "index") i32 (i32.const ${L.index}))
+  (global (export "indexCapacity") i32 (i32.const ${L.indexCapacity}))
+  (global (export "slots") i32 (i32.const ${L.slots}))
+  ;; multiply(groups, limbs, slotBytes): for each group g of four lanes, reads slot indices from the
+  ;; index area (out, left, right; index -1 is the scratch slot) and writes out = left * right / R.
+  (func (export "multiply") (param $groups i32) (param $limbs i32) (param $slotBytes i32)
+    (local $g i32) (local $idx i32) (local $j i32) (local $q i32) (local $k i32)
+    (local $px i32) (local $py i32) (local $blocks i32) (local $nb i32)
+    (local $o0 i32) (local $o1 i32) (local $o2 i32) (local $o3 i32)
+    (local $l0 i32) (local $l1 i32) (local $l2 i32) (local $l3 i32)
+    (local $r0 i32) (local $r1 i32) (local $r2 i32) (local $r3 i32)
+    (local $v0 v128) (local $v1 v128) (local $v2 v128) (local $v3 v128)
+    (local $t0 v128) (local $t1 v128) (local $t2 v128) (local $t3 v128)
+    (local $c0 v128) (local $c1 v128) (local $c2 v128) (local $c3 v128)
+    (local $acc0 v128) (local $acc1 v128) (local $hi v128) (local $carry v128) (local $sum v128)
+    (local $mask v128) (local $ninv v128) (local $n0 v128)
+    (local.set $mask (v128.const i32x4 4095 4095 4095 4095))
+    (local.set $ninv (v128.load (i32.const ${L.negInverse})))
+    (local.set $n0 (v128.load (i32.const ${L.lowLimb})))
+    (block $end (loop $group
+      (br_if $end (i32.ge_u (local.get $g) (local.get $groups)))
+      (local.set $idx (i32.add (i32.const ${L.index}) (i32.shl (local.get $g) (i32.const 4))))
+${[0, 1, 2, 3].map((m) => `      (local.set $o${m} ${slotAddress(0, m)})`).join('\n')}
+${[0, 1, 2, 3].map((m) => `      (local.set $l${m} ${slotAddress(1, m)})`).join('\n')}
+${[0, 1, 2, 3].map((m) => `      (local.set $r${m} ${slotAddress(2, m)})`).join('\n')}
+      ;; X[i] = (a_i, 0) and Y[j] = (b_j, n_j), lanes gathered from four slots
+${gather('gatherLeft', 'l', L.x, null)}
+${gather('gatherRight', 'r', L.y, L.modulusShifted)}
+      ;; low columns k < L: the sum runs over i <= k (X[k] still has q_k = 0); finish with q_k = -t * n^-1 mod 2^12 and the exact shift by 2^12
+      (local.set $carry (v128.const i32x4 0 0 0 0))
+      (local.set $k (i32.const 0))
+      (loop $low
+        (local.set $acc0 (local.get $carry))
+        (local.set $acc1 (v128.const i32x4 0 0 0 0))
+        (local.set $hi (v128.const i32x4 0 0 0 0))
+        (local.set $blocks (i32.shr_u (i32.add (local.get $k) (i32.const 8)) (i32.const 3)))
+        (local.set $px (i32.const ${L.x}))
+        (local.set $py (i32.add (i32.const ${L.y - 7 * V}) (i32.shl (local.get $k) (i32.const 4))))
+${columnSum('low')}
+        (local.set $j (i32.add (i32.const ${L.x}) (i32.shl (local.get $k) (i32.const 4))))
+        (local.set $sum (local.get $acc0))
+        (local.set $v0 (v128.and (i32x4.mul (local.get $sum) (local.get $ninv)) (local.get $mask)))
+        (v128.store (local.get $j) (v128.or (v128.load (local.get $j)) (i32x4.shl (local.get $v0) (i32.const 16))))
+        (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $v0) (local.get $n0))))
+        (local.set $carry (i32x4.add (local.get $hi) (i32x4.shr_u (local.get $sum) (i32.const 12))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br_if $low (i32.lt_u (local.get $k) (local.get $limbs))))
+      ;; high columns k = L .. 2L-2: each yields result limb k - L; the last carry is limb L-1
+      (loop $high
+        (local.set $acc0 (local.get $carry))
+        (local.set $acc1 (v128.const i32x4 0 0 0 0))
+        (local.set $hi (v128.const i32x4 0 0 0 0))
+        (local.set $j (i32.sub (local.get $k) (local.get $limbs)))
+        (local.set $blocks (i32.shr_u (i32.sub (i32.add (local.get $limbs) (i32.const 6)) (local.get $j)) (i32.const 3)))
+        (local.set $px (i32.add (i32.const ${L.x + V}) (i32.shl (local.get $j) (i32.const 4))))
+        (local.set $py (i32.add (i32.const ${L.y - 8 * V}) (i32.shl (local.get $limbs) (i32.const 4))))
+${columnSum('high')}
+        (v128.store offset=${L.out} (i32.shl (local.get $j) (i32.const 4)) (local.get $acc0))
+        (local.set $carry (local.get $hi))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br_if $high (i32.lt_u (local.get $k) (i32.sub (i32.shl (local.get $limbs) (i32.const 1)) (i32.const 1)))))
+      (v128.store offset=${L.out - V} (i32.shl (local.get $limbs) (i32.const 4)) (local.get $carry))
+      ;; scatter the result limbs back to the four output slots
+      (local.set $j (i32.const 0))
+      (loop $scatter
+        (local.set $q (i32.shl (local.get $j) (i32.const 2)))
+        (local.set $v0 (v128.load offset=${L.out} (local.get $q)))
+        (local.set $v1 (v128.load offset=${L.out + V} (local.get $q)))
+        (local.set $v2 (v128.load offset=${L.out + 2 * V} (local.get $q)))
+        (local.set $v3 (v128.load offset=${L.out + 3 * V} (local.get $q)))${transpose()}
+${[0, 1, 2, 3].map((m) => `        (v128.store (i32.add (local.get $o${m}) (local.get $j)) (local.get $c${m}))`).join('\n')}
+        (local.set $j (i32.add (local.get $j) (i32.const 16)))
+        (br_if $scatter (i32.lt_u (local.get $j) (local.get $slotBytes))))
+      (local.set $g (i32.add (local.get $g) (i32.const 1)))
+      (br $group)))
+  )
+)
+`;
+}
+
+/** Assembles the module text with wabt; deterministic, so the committed binary can be checked. */
+export async function generateKernelWasm(): Promise<Uint8Array> {
+  const wabt = await wabtInit();
+  const parsed = wabt.parseWat('kernel.wat', kernelText(), { simd: true });
+  try {
+    parsed.resolveNames();
+    parsed.validate();
+    return new Uint8Array(parsed.toBinary({ log: false, write_debug_names: false }).buffer);
+  } finally {
+    parsed.destroy();
+  }
+}
+
+/** Where the committed binary lives. */
+export const KERNEL_PATH = fileURLToPath(new URL('../../core/montgomery/kernel.wasm', import.meta.url));
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  const bytes = await generateKernelWasm();
+  writeFileSync(KERNEL_PATH, bytes);
+  console.log(`wrote ${KERNEL_PATH} (${bytes.length} bytes)`);
+}
