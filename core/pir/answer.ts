@@ -1,9 +1,9 @@
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
-import { randomUnit } from '../bigint/random.ts';
+import { randomBelow } from '../bigint/random.ts';
 
 /**
  * The server's answer: z_r = s_r^2 * prod{ values[j] : M[r][j] = 1 } mod n for each row r, with a
- * fresh uniform unit s_r per row (the blinding that hides all but the residuosity of z_r).
+ * fresh uniform non-zero s_r per row (the blinding that hides all but the residuosity of z_r).
  * Plain BigInt products, one per 1-bit; see answerMultiplications for the count.
  *
  * The query must already have passed validateQuery (this does not re-check residues or ranges).
@@ -18,7 +18,10 @@ export function answerQuery(matrix: BitMatrix, n: bigint, values: readonly bigin
   }
   const out = new Array<bigint>(matrix.rows);
   for (let r = 0; r < matrix.rows; r++) {
-    const s = randomUnit(n);
+    // Zero is the only draw to refuse: the server cannot test gcd(s, n) cheaply, and a draw
+    // sharing a factor with n turns up with probability about 2^-1023.
+    let s = 0n;
+    while (s === 0n) s = randomBelow(n);
     out[r] = rowProduct(matrix, r, values, n, (s * s) % n);
   }
   return out;

@@ -1,0 +1,159 @@
+import { randomBelow } from '../bigint/random.ts';
+import type { BitMatrix } from '../matrix/bit-matrix.ts';
+import { rowBlockBits, type AnswerPlan } from './answer-plan.ts';
+import type { ProductEngine } from './product-engine.ts';
+
+/**
+ * The answer z_r = s_r^2 * prod{ y_j : M[r][j] = 1 } mod n computed by `plan` on `engine`.
+ * Same meaning as answerQuery (the plain BigInt reference); the products are batched so an
+ * engine with parallel lanes stays busy. Returns the rows and the products done (for metering).
+ *
+ * Slots used: [0, R) row accumulators, then the plan's working slots, then 2R for blinding.
+ * Memory: R accumulators plus one block table (blocked) or the C values (plain), never both.
+ * The query must have passed validateQuery. Variable-time in the matrix (public to the server).
+ */
+export function answerWithPlan(
+  matrix: BitMatrix,
+  values: readonly bigint[],
+  plan: AnswerPlan,
+  engine: ProductEngine,
+): { rows: bigint[]; products: number } {
+  return runPlan(matrix, values, plan, engine, true);
+}
+
+/**
+ * The same without blinding: prod{ y_j : M[r][j] = 1 } mod n per row (1 for an empty row).
+ * Never sent to a client (it would reveal more than one column); it exists so tests can compare
+ * every plan and engine with a plain reference product.
+ */
+export function unblindedRowProducts(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan, engine: ProductEngine): { rows: bigint[]; products: number } {
+  return runPlan(matrix, values, plan, engine, false);
+}
+
+function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan, engine: ProductEngine, blinded: boolean) {
+  if (values.length !== matrix.columns) {
+    throw new RangeError(`answerWithPlan: expected ${matrix.columns} values, got ${values.length}`);
+  }
+  const R = matrix.rows;
+  const started = new Uint8Array(R);
+  const working = plan.kind === 'plain' ? matrix.columns : 2 ** plan.blockColumns;
+  engine.ensureSlots(R + working + 2 * R);
+  let products = plan.kind === 'plain' ? plainProducts(matrix, values, engine, started) : blockedProducts(matrix, values, plan.blockColumns, engine, started);
+  if (blinded) products += blind(engine, R, R + working, started);
+  const rows = new Array<bigint>(R);
+  for (let r = 0; r < R; r++) rows[r] = started[r] || blinded ? engine.get(r) : 1n;
+  return { rows, products };
+}
+
+/** Scratch index arrays for multiplyMany, grown on demand. */
+class Batch {
+  out = new Uint32Array(64);
+  left = new Uint32Array(64);
+  right = new Uint32Array(64);
+  count = 0;
+  push(out: number, left: number, right: number): void {
+    if (this.count === this.out.length) {
+      const grow = (a: Uint32Array) => {
+        const b = new Uint32Array(a.length * 2);
+        b.set(a);
+        return b;
+      };
+      this.out = grow(this.out);
+      this.left = grow(this.left);
+      this.right = grow(this.right);
+    }
+    this.out[this.count] = out;
+    this.left[this.count] = left;
+    this.right[this.count] = right;
+    this.count++;
+  }
+  run(engine: ProductEngine): number {
+    const done = this.count;
+    if (done > 0) engine.multiplyMany(this.out, this.left, this.right, done);
+    this.count = 0;
+    return done;
+  }
+}
+
+/** Plain: round t multiplies every row that has more than t ones by the value of its t-th one. */
+function plainProducts(m: BitMatrix, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
+  const R = m.rows;
+  const valueBase = R;
+  for (let j = 0; j < m.columns; j++) engine.set(valueBase + j, values[j]!);
+  const ones: number[][] = [];
+  let longest = 0;
+  for (let r = 0; r < R; r++) {
+    const cols: number[] = [];
+    for (let k = 0; k < m.wordsPerRow; k++) {
+      let w = m.words[r * m.wordsPerRow + k]!;
+      while (w !== 0) {
+        cols.push((k << 5) + 31 - Math.clz32(w & -w));
+        w &= w - 1;
+      }
+    }
+    if (cols.length > 0) {
+      engine.copy(r, valueBase + cols[0]!);
+      started[r] = 1;
+    }
+    ones.push(cols);
+    longest = Math.max(longest, cols.length);
+  }
+  const batch = new Batch();
+  let products = 0;
+  for (let t = 1; t < longest; t++) {
+    for (let r = 0; r < R; r++) {
+      const cols = ones[r]!;
+      if (t < cols.length) batch.push(r, r, valueBase + cols[t]!);
+    }
+    products += batch.run(engine);
+  }
+  return products;
+}
+
+/** Blocked: per block of b columns, a table of subset products, then one product per row. */
+function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, engine: ProductEngine, started: Uint8Array): number {
+  const R = m.rows;
+  const tableBase = R;
+  const batch = new Batch();
+  let products = 0;
+  for (let start = 0; start < m.columns; start += b) {
+    const width = Math.min(b, m.columns - start);
+    for (let k = 0; k < width; k++) engine.set(tableBase + (1 << k), values[start + k]!);
+    // Level k: every subset whose highest member is k, from the subset without it (independent).
+    for (let k = 1; k < width; k++) {
+      const high = 1 << k;
+      for (let s = high + 1; s < 2 * high; s++) batch.push(tableBase + s, tableBase + (s - high), tableBase + high);
+      products += batch.run(engine);
+    }
+    for (let r = 0; r < R; r++) {
+      const bits = rowBlockBits(m, r, start, width);
+      if (bits === 0) continue;
+      if (started[r]) batch.push(r, r, tableBase + bits);
+      else {
+        engine.copy(r, tableBase + bits);
+        started[r] = 1;
+      }
+    }
+    products += batch.run(engine);
+  }
+  return products;
+}
+
+/** z_r = acc_r * s_r^2 with a fresh uniform non-zero s_r per row: two products per row. */
+function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Array): number {
+  const n = engine.modulus;
+  const squareBase = sBase + R;
+  const batch = new Batch();
+  for (let r = 0; r < R; r++) {
+    if (!started[r]) engine.setOne(r);
+    let s = 0n;
+    // Zero is the only draw to refuse; a draw sharing a factor with n has probability ~2^-1023.
+    while (s === 0n) s = randomBelow(n);
+    engine.set(sBase + r, s);
+    batch.push(squareBase + r, sBase + r, sBase + r);
+  }
+  let products = batch.run(engine);
+  for (let r = 0; r < R; r++) batch.push(r, r, squareBase + r);
+  products += batch.run(engine);
+  return products;
+}

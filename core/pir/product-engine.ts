@@ -1,0 +1,60 @@
+/**
+ * Where the answer's modular products happen. Values live in numbered slots (in whatever form
+ * the engine likes, e.g. Montgomery form); many independent products are asked for at once so
+ * an engine can run several in parallel lanes. The BigInt engine below is the plain reference;
+ * core/montgomery provides a WebAssembly SIMD one with the same shape.
+ */
+export interface ProductEngine {
+  readonly modulus: bigint;
+  readonly slots: number;
+  ensureSlots(count: number): void;
+  /** Stores x in [0, n) in slot s. */
+  set(slot: number, x: bigint): void;
+  /** Reads slot s as an ordinary residue in [0, n). */
+  get(slot: number): bigint;
+  setOne(slot: number): void;
+  copy(dst: number, src: number): void;
+  /** out[i] = left[i] * right[i] mod n for i < count; out must not alias left/right in one call. */
+  multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
+}
+
+/** Plain BigInt `(a * b) % n` in slots: the reference every faster engine is checked against. */
+export function createBigIntEngine(n: bigint): ProductEngine {
+  if (typeof n !== 'bigint' || n < 3n || (n & 1n) === 0n) throw new RangeError(`createBigIntEngine: expected odd modulus >= 3, got ${n}`);
+  let store: bigint[] = [];
+  const check = (fn: string, slot: number) => {
+    if (!Number.isSafeInteger(slot) || slot < 0 || slot >= store.length) {
+      throw new RangeError(`${fn}: expected slot in [0, ${store.length}), got ${slot}`);
+    }
+  };
+  return {
+    modulus: n,
+    get slots() {
+      return store.length;
+    },
+    ensureSlots(count) {
+      if (count > store.length) store = store.concat(new Array<bigint>(count - store.length).fill(0n));
+    },
+    set(slot, x) {
+      check('set', slot);
+      if (x < 0n || x >= n) throw new RangeError(`set: expected 0 <= x < n, got ${x < 0n ? x : 'x >= n'}`);
+      store[slot] = x;
+    },
+    get(slot) {
+      check('get', slot);
+      return store[slot]!;
+    },
+    setOne(slot) {
+      check('setOne', slot);
+      store[slot] = 1n;
+    },
+    copy(dst, src) {
+      check('copy', dst);
+      check('copy', src);
+      store[dst] = store[src]!;
+    },
+    multiplyMany(out, left, right, count) {
+      for (let i = 0; i < count; i++) store[out[i]!] = (store[left[i]!]! * store[right[i]!]!) % n;
+    },
+  };
+}

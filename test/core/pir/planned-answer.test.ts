@@ -1,0 +1,75 @@
+import fc from 'fast-check';
+import { BigInteger } from 'jsbn';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { randomBelow } from '../../../core/bigint/random.ts';
+import { createBitMatrix, readColumn, setBit, type BitMatrix } from '../../../core/matrix/bit-matrix.ts';
+import { choosePlan, planProducts, type AnswerPlan } from '../../../core/pir/answer-plan.ts';
+import { decodeRows } from '../../../core/pir/decode.ts';
+import { generateKeyPair, type PirKeyPair } from '../../../core/pir/keys.ts';
+import { answerWithPlan, unblindedRowProducts } from '../../../core/pir/planned-answer.ts';
+import { createBigIntEngine } from '../../../core/pir/product-engine.ts';
+import { makeQuery } from '../../../core/pir/query.ts';
+
+function randomMatrix(rows: number, columns: number, density: number, seed: number): BitMatrix {
+  let state = seed >>> 0;
+  const next = () => ((state = (Math.imul(state, 1664525) + 1013904223) >>> 0) / 2 ** 32);
+  const m = createBitMatrix(rows, columns);
+  for (let r = 0; r < rows; r++) for (let c = 0; c < columns; c++) if (next() < density) setBit(m, r, c, 1);
+  return m;
+}
+
+/** Reference: the row product by jsbn (npm jsbn 1.1.0), one multiply-and-mod per 1-bit. */
+function jsbnRowProducts(m: BitMatrix, values: readonly bigint[], n: bigint): bigint[] {
+  const N = new BigInteger(n.toString(16), 16);
+  const ys = values.map((v) => new BigInteger(v.toString(16), 16));
+  const out: bigint[] = [];
+  for (let r = 0; r < m.rows; r++) {
+    let acc = BigInteger.ONE;
+    for (let c = 0; c < m.columns; c++) if ((m.words[r * m.wordsPerRow + (c >>> 5)]! >>> (c & 31)) & 1) acc = acc.multiply(ys[c]!).mod(N);
+    out.push(BigInt('0x' + acc.toString(16)));
+  }
+  return out;
+}
+
+const PLANS: AnswerPlan[] = [{ kind: 'plain' }, ...[1, 2, 3, 5, 8, 11].map((b) => ({ kind: 'blocked', blockColumns: b }) as const)];
+
+describe('answer plans', () => {
+  let key: PirKeyPair;
+  beforeAll(async () => {
+    key = await generateKeyPair({ modulusBits: 2048 });
+  });
+
+  it('every plan gives jsbn\'s row products and does exactly the products planProducts counts', () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 1, max: 9 }), fc.integer({ min: 1, max: 40 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.nat(), (rows, cols, density, seed) => {
+        const m = randomMatrix(rows, cols, density, seed);
+        const values = Array.from({ length: cols }, () => randomBelow(key.n - 1n) + 1n);
+        const reference = jsbnRowProducts(m, values, key.n);
+        for (const plan of PLANS) {
+          const { rows: got, products } = unblindedRowProducts(m, values, plan, createBigIntEngine(key.n));
+          expect(got).toEqual(reference);
+          expect(products + 2 * rows).toBe(planProducts(m, plan));
+        }
+      }),
+      { numRuns: 25 },
+    );
+  });
+
+  it('a blinded answer by any plan decodes to the queried column', () => {
+    const m = randomMatrix(24, 37, 0.45, 7);
+    for (const plan of PLANS) {
+      for (const column of [0, 18, 36]) {
+        const { rows, products } = answerWithPlan(m, makeQuery(key, m.columns, column), plan, createBigIntEngine(key.n));
+        expect(Array.from(decodeRows(key, rows))).toEqual(Array.from(readColumn(m, column)));
+        expect(products).toBe(planProducts(m, plan));
+      }
+    }
+  });
+
+  it('chooses blocks for a dense random matrix and plain for a very sparse one', () => {
+    const dense = choosePlan(randomMatrix(300, 300, 0.45, 1));
+    expect(dense.plan).toMatchObject({ kind: 'blocked' });
+    expect(dense.products).toBeLessThan(planProducts(randomMatrix(300, 300, 0.45, 1), { kind: 'plain' }) / 2);
+    expect(choosePlan(randomMatrix(300, 300, 0.01, 2)).plan).toEqual({ kind: 'plain' });
+  });
+});
