@@ -6,6 +6,7 @@ import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
+import { choosePlan, planProducts } from '../pir/answer-plan.ts';
 import { chooseGrid } from './choose-grid.ts';
 import { fillMatrix } from './fill-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
@@ -49,7 +50,8 @@ export async function buildVersion(
   const choice = chooseGrid(points, siteBox(lats, lons), slotBits);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
-  const matrixBlob = new Uint8Array(encodeMatrixBlob(matrix));
+  const matrixBlob = encodeMatrixBlob(matrix);
+  const planned = choosePlan(matrix);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,
@@ -65,6 +67,7 @@ export async function buildVersion(
       columns: matrix.columns,
       regionsPerColumn: choice.packing.regionsPerColumn,
       ones: countOnes(matrix),
+      plan: { ...planned.plan, products: planned.products, plainProducts: planProducts(matrix, { kind: 'plain' }) },
     },
     siteIds: table.sites.map((s) => s.id),
   } satisfies Manifest);

@@ -35,6 +35,20 @@ export const RecordSchema = z
   .refine((r) => r.slotBits === r.indexBits + r.latBits + r.lonBits, { error: 'record: expected slotBits = indexBits + latBits + lonBits' })
   .refine((r) => r.regionBits === r.slotBits * r.slotsPerRegion, { error: 'record: expected regionBits = slotBits * slotsPerRegion' });
 
+/**
+ * How the server answers this matrix (core/pir/answer-plan.ts), recorded with the build: the
+ * products one answer costs with this plan and with the plain one, so the choice explains itself.
+ */
+export const PlanRecordSchema = z.discriminatedUnion('kind', [
+  z.object({ kind: z.literal('plain'), products: z.number().int().min(0), plainProducts: z.number().int().min(0) }),
+  z.object({
+    kind: z.literal('blocked'),
+    blockColumns: z.number().int().min(1).max(12),
+    products: z.number().int().min(0),
+    plainProducts: z.number().int().min(0),
+  }),
+]);
+
 export const ManifestSchema = z
   .object({
     format: z.literal('nearveil-manifest'),
@@ -46,7 +60,7 @@ export const ManifestSchema = z
     modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
     layout: GridLayoutSchema,
     record: RecordSchema,
-    matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0) }),
+    matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
     siteIds: z.array(z.string().min(1)),
   })
   .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })

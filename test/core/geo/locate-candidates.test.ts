@@ -20,7 +20,7 @@ function manifestFor(siteCount: number, slotsPerRegion: number, regionsPerColumn
     modulusBits: [2048],
     layout,
     record,
-    matrix: { rows: regionsPerColumn * record.regionBits, columns: Math.ceil(9 / regionsPerColumn), regionsPerColumn, ones: 0 },
+    matrix: { rows: regionsPerColumn * record.regionBits, columns: Math.ceil(9 / regionsPerColumn), regionsPerColumn, ones: 0, plan: { kind: 'plain', products: 0, plainProducts: 0 } },
     siteIds: Array.from({ length: siteCount }, (_, i) => `s${i}`),
   };
 }

@@ -11,7 +11,7 @@ const good = {
   modulusBits: [2048, 3072],
   layout: { kind: 'grid', latMin: 10, latMax: 11, lonMin: 179, lonMax: 181, rows: 1, cols: 2 },
   record: { indexBits: 2, latBits: 24, lonBits: 25, slotBits: 51, slotsPerRegion: 3, regionBits: 153 },
-  matrix: { rows: 153, columns: 3, regionsPerColumn: 1, ones: 100 },
+  matrix: { rows: 153, columns: 3, regionsPerColumn: 1, ones: 100, plan: { kind: 'blocked', blockColumns: 2, products: 350, plainProducts: 403 } },
   siteIds: ['a', 'b', 'c'],
 };
 
