@@ -13,8 +13,13 @@
  *   so values stay in Montgomery form and no final subtraction is needed;
  * - X[i] holds, per lane, the pair (a_i, q_i) as two i16 and Y[j] the pair (b_j, n_j), so one
  *   i32x4.dot_i16x8_s adds a_i*b_j + q_i*n_j for all four lanes (each below 2^25);
- * - column sums are split into a low 12-bit part and a carry only every 15 blocks of 8 steps, so
- *   an i32 lane never exceeds 2^32 (120 * 2 * 4095^2 + carry < 2^32, read unsigned).
+ * - four neighbouring columns are summed together, so each step loads one X and one Y vector for
+ *   four dots (the other Y vectors slide along in locals); blocks of 4 steps keep the live vectors
+ *   within the 16 registers the engine uses, which measured faster than blocks of 8;
+ * - column sums are split into a low 12-bit part and a carry only every 120 steps, so an i32 lane
+ *   never exceeds 2^32 (120 * 2 * 4095^2 + carry < 2^32, read unsigned);
+ * - the low-order dots of a column use zero X vectors below X[0] and zero Y vectors above L as
+ *   padding, so block counts round up without branches.
  */
 import { writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
@@ -24,6 +29,9 @@ import wabtInit from 'wabt';
 export const MAX_LIMBS = 257;
 const MAX_PADDED = 260; // limbs per slot rounded up to a multiple of 4
 const V = 16; // bytes per v128
+const LOG_STEPS = 2; // 4 steps a block measured faster than 8 (fewer spilled registers); must stay a multiple of 4
+const STEPS = 1 << LOG_STEPS; // values of i per unrolled block
+const CHUNK = Math.floor(120 / STEPS); // blocks between splits: at most 120 dots per lane and column
 
 /** Byte offsets of the fixed areas; exported from the module as immutable globals. */
 export const LAYOUT = (() => {
@@ -31,14 +39,16 @@ export const LAYOUT = (() => {
   const negInverse = modulusShifted + MAX_PADDED * V; // splat(-n^-1 mod 2^12)
   const lowLimb = negInverse + V; // splat(n_0)
   const yZeros = lowLimb + V; // 8 zero vectors below Y[0]
-  const y = yZeros + 8 * V; // MAX_PADDED vectors: lanes (b_j, n_j)
-  const x = y + MAX_PADDED * V; // MAX_PADDED + 8 vectors: lanes (a_i, q_i), zero above L
-  const out = x + (MAX_PADDED + 8) * V; // MAX_PADDED vectors: result limbs by lane
-  const index = out + MAX_PADDED * V; // three arrays of INDEX_CAPACITY u32: out, left, right
+  const y = yZeros + 8 * V; // MAX_PADDED + 16 vectors: lanes (b_j, n_j), zero above L
+  const xZeros = y + (MAX_PADDED + 16) * V; // 8 zero vectors below X[0]
+  const x = xZeros + 8 * V; // MAX_PADDED + 16 vectors: lanes (a_i, q_i), zero above L
+  const out = x + (MAX_PADDED + 16) * V; // MAX_PADDED + 8 vectors: result limbs by lane
+  const hi = out + (MAX_PADDED + 8) * V; // 5 vectors: the high parts of four column sums, the carry
+  const index = hi + 5 * V; // three arrays of indexCapacity u32: out, left, right
   const indexCapacity = 1024;
   const slots = 32768; // slot s at slots + s * slotBytes; slot -1 is the scratch output
   if (index + 3 * 4 * indexCapacity > slots - MAX_PADDED * 4) throw new Error('layout overlap');
-  return { modulusShifted, negInverse, lowLimb, y, x, out, index, indexCapacity, slots };
+  return { modulusShifted, negInverse, lowLimb, y, x, out, hi, index, indexCapacity, slots };
 })();
 
 /** i8x16.shuffle lane bytes picking i32 lanes (0-3 from the first operand, 4-7 the second). */
@@ -64,32 +74,76 @@ function transpose(): string {
 }
 
 /**
- * Adds sum over the block range of dot(X[px + m], Y[py + 7 - m]) into the column, 8 steps a
- * block, $blocks blocks; splits the sum into $acc0 (12 bits) and $hi after every 15 blocks.
+ * Sums four neighbouring columns k + c (c = 0..3) at once over $blocks blocks of 8 values of i,
+ * starting at X[$px]: column k + c adds dot(X[i], Y[k + c - i]). Each step loads one X and one Y
+ * vector and does four dots; the three other Y vectors are kept in a sliding window $y0..$y3 (the
+ * window is loaded before the first block). $py points 7 vectors below Y[k - i] for the block's
+ * first i. Every 15 blocks (at most 120 dots per lane and column) each sum is split into 12 low
+ * bits in $acc<c> and the rest added to $hi<c>.
  */
 function columnSum(label: string): string {
   const steps: string[] = [];
-  for (let m = 0; m < 8; m++) {
-    const acc = m % 2 === 0 ? '$acc0' : '$acc1';
+  for (let m = 0; m < STEPS; m++) {
+    const slot = (c: number) => `$y${(((c - m) % 4) + 4) % 4}`;
     steps.push(`
-            (local.set ${acc} (i32x4.add (local.get ${acc}) (i32x4.dot_i16x8_s
-              (v128.load offset=${m * V} (local.get $px)) (v128.load offset=${(7 - m) * V} (local.get $py)))))`);
+            (local.set ${slot(0)} (v128.load offset=${(STEPS - 1 - m) * V} (local.get $py)))
+            (local.set $xi (v128.load offset=${m * V} (local.get $px)))`);
+    for (let c = 0; c < 4; c++) {
+      steps.push(`
+            (local.set $acc${c} (i32x4.add (local.get $acc${c}) (i32x4.dot_i16x8_s (local.get $xi) (local.get ${slot(c)}))))`);
+    }
   }
+  const split = [0, 1, 2, 3]
+    .map(
+      (c) => `
+        (v128.store (i32.const ${LAYOUT.hi + c * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $acc${c}) (i32.const 12))))
+        (local.set $acc${c} (v128.and (local.get $acc${c}) (v128.const i32x4 4095 4095 4095 4095)))`,
+    )
+    .join('');
+  const zero = '(v128.const i32x4 0 0 0 0)';
   return `
+      (local.set $acc0 ${zero}) (local.set $acc1 ${zero}) (local.set $acc2 ${zero}) (local.set $acc3 ${zero})
+      ${[0, 1, 2, 3].map((c) => `(v128.store (i32.const ${LAYOUT.hi + c * V}) ${zero})`).join(' ')}
+      (local.set $y1 (v128.load offset=${STEPS * V} (local.get $py)))
+      (local.set $y2 (v128.load offset=${(STEPS + 1) * V} (local.get $py)))
+      (local.set $y3 (v128.load offset=${(STEPS + 2) * V} (local.get $py)))
       (block $${label}_done (loop $${label}_chunk
         (br_if $${label}_done (i32.eqz (local.get $blocks)))
-        (local.set $nb (select (local.get $blocks) (i32.const 15) (i32.lt_u (local.get $blocks) (i32.const 15))))
+        (local.set $nb (select (local.get $blocks) (i32.const ${CHUNK}) (i32.lt_u (local.get $blocks) (i32.const ${CHUNK}))))
         (local.set $blocks (i32.sub (local.get $blocks) (local.get $nb)))
         (loop $${label}_block${steps.join('')}
-          (local.set $px (i32.add (local.get $px) (i32.const ${8 * V})))
-          (local.set $py (i32.sub (local.get $py) (i32.const ${8 * V})))
+          (local.set $px (i32.add (local.get $px) (i32.const ${STEPS * V})))
+          (local.set $py (i32.sub (local.get $py) (i32.const ${STEPS * V})))
           (local.set $nb (i32.sub (local.get $nb) (i32.const 1)))
-          (br_if $${label}_block (local.get $nb)))
-        (local.set $acc0 (i32x4.add (local.get $acc0) (local.get $acc1)))
-        (local.set $hi (i32x4.add (local.get $hi) (i32x4.shr_u (local.get $acc0) (i32.const 12))))
-        (local.set $acc0 (v128.and (local.get $acc0) (local.get $mask)))
-        (local.set $acc1 (v128.const i32x4 0 0 0 0))
+          (br_if $${label}_block (local.get $nb)))${split}
         (br $${label}_chunk)))`;
+}
+
+/** Finishes low column k + c: adds the terms i = k..k+c, picks q_{k+c} and shifts out 12 zero bits. */
+function lowTail(c: number): string {
+  const L = LAYOUT;
+  const terms = [];
+  for (let d = 0; d <= c; d++) {
+    terms.push(`
+          (local.set $sum (i32x4.add (local.get $sum) (i32x4.dot_i16x8_s (v128.load offset=${L.x + d * V} (local.get $j)) (v128.load (i32.const ${L.y + (c - d) * V})))))`);
+  }
+  return `
+        (if (i32.lt_u (i32.add (local.get $k) (i32.const ${c})) (local.get $limbs)) (then
+          (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))${terms.join('')}
+          (local.set $xi (v128.and (i32x4.mul (local.get $sum) (v128.load (i32.const ${LAYOUT.negInverse}))) (v128.const i32x4 4095 4095 4095 4095)))
+          (v128.store offset=${L.x + c * V} (local.get $j)
+            (v128.or (v128.load offset=${L.x + c * V} (local.get $j)) (i32x4.shl (local.get $xi) (i32.const 16))))
+          (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $xi) (v128.load (i32.const ${LAYOUT.lowLimb})))))
+          (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const 12))))))`;
+}
+
+/** Finishes high column k + c: its low 12 bits are result limb k + c - L. */
+function highTail(c: number): string {
+  const L = LAYOUT;
+  return `
+        (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))
+        (v128.store offset=${L.out + c * V} (local.get $j) (v128.and (local.get $sum) (v128.const i32x4 4095 4095 4095 4095)))
+        (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const 12))))`;
 }
 
 /** The module's text. */
@@ -133,11 +187,9 @@ ${[0, 1, 2, 3]
     (local $v0 v128) (local $v1 v128) (local $v2 v128) (local $v3 v128)
     (local $t0 v128) (local $t1 v128) (local $t2 v128) (local $t3 v128)
     (local $c0 v128) (local $c1 v128) (local $c2 v128) (local $c3 v128)
-    (local $acc0 v128) (local $acc1 v128) (local $hi v128) (local $carry v128) (local $sum v128)
-    (local $mask v128) (local $ninv v128) (local $n0 v128)
-    (local.set $mask (v128.const i32x4 4095 4095 4095 4095))
-    (local.set $ninv (v128.load (i32.const ${L.negInverse})))
-    (local.set $n0 (v128.load (i32.const ${L.lowLimb})))
+    (local $acc0 v128) (local $acc1 v128) (local $acc2 v128) (local $acc3 v128)
+    (local $y0 v128) (local $y1 v128) (local $y2 v128) (local $y3 v128) (local $xi v128)
+    (local $sum v128)
     (block $end (loop $group
       (br_if $end (i32.ge_u (local.get $g) (local.get $groups)))
       (local.set $idx (i32.add (i32.const ${L.index}) (i32.shl (local.get $g) (i32.const 4))))
@@ -147,40 +199,32 @@ ${[0, 1, 2, 3].map((m) => `      (local.set $r${m} ${slotAddress(2, m)})`).join(
       ;; X[i] = (a_i, 0) and Y[j] = (b_j, n_j), lanes gathered from four slots
 ${gather('gatherLeft', 'l', L.x, null)}
 ${gather('gatherRight', 'r', L.y, L.modulusShifted)}
-      ;; low columns k < L: the sum runs over i <= k (X[k] still has q_k = 0); finish with q_k = -t * n^-1 mod 2^12 and the exact shift by 2^12
-      (local.set $carry (v128.const i32x4 0 0 0 0))
+      ;; low columns k < L, four at a time: the shared sum runs over i < k (padded below 0 with
+      ;; zero X vectors); the tail adds i = k..k+c and sets q for each column in turn
+      (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (v128.const i32x4 0 0 0 0))
       (local.set $k (i32.const 0))
       (loop $low
-        (local.set $acc0 (local.get $carry))
-        (local.set $acc1 (v128.const i32x4 0 0 0 0))
-        (local.set $hi (v128.const i32x4 0 0 0 0))
-        (local.set $blocks (i32.shr_u (i32.add (local.get $k) (i32.const 8)) (i32.const 3)))
-        (local.set $px (i32.const ${L.x}))
-        (local.set $py (i32.add (i32.const ${L.y - 7 * V}) (i32.shl (local.get $k) (i32.const 4))))
+        (local.set $blocks (i32.shr_u (i32.add (local.get $k) (i32.const ${STEPS - 1})) (i32.const ${LOG_STEPS})))
+        (local.set $px (i32.add (i32.const ${L.x}) (i32.shl (i32.sub (local.get $k) (i32.shl (local.get $blocks) (i32.const ${LOG_STEPS}))) (i32.const 4))))
+        (local.set $py (i32.add (i32.const ${L.y - (STEPS - 1) * V}) (i32.shl (local.get $blocks) (i32.const ${LOG_STEPS + 4}))))
 ${columnSum('low')}
-        (local.set $j (i32.add (i32.const ${L.x}) (i32.shl (local.get $k) (i32.const 4))))
-        (local.set $sum (local.get $acc0))
-        (local.set $v0 (v128.and (i32x4.mul (local.get $sum) (local.get $ninv)) (local.get $mask)))
-        (v128.store (local.get $j) (v128.or (v128.load (local.get $j)) (i32x4.shl (local.get $v0) (i32.const 16))))
-        (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $v0) (local.get $n0))))
-        (local.set $carry (i32x4.add (local.get $hi) (i32x4.shr_u (local.get $sum) (i32.const 12))))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (local.set $j (i32.shl (local.get $k) (i32.const 4)))
+${[0, 1, 2, 3].map(lowTail).join('')}
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
         (br_if $low (i32.lt_u (local.get $k) (local.get $limbs))))
-      ;; high columns k = L .. 2L-2: each yields result limb k - L; the last carry is limb L-1
+      ;; high columns k = L .. 2L-1, four at a time: the sum runs over i = k-L+1 .. L-1 (terms
+      ;; outside a column's range meet zero Y or X vectors); each column yields limb k - L
+      (local.set $k (local.get $limbs))
       (loop $high
-        (local.set $acc0 (local.get $carry))
-        (local.set $acc1 (v128.const i32x4 0 0 0 0))
-        (local.set $hi (v128.const i32x4 0 0 0 0))
         (local.set $j (i32.sub (local.get $k) (local.get $limbs)))
-        (local.set $blocks (i32.shr_u (i32.sub (i32.add (local.get $limbs) (i32.const 6)) (local.get $j)) (i32.const 3)))
+        (local.set $blocks (i32.shr_u (i32.sub (i32.add (local.get $limbs) (i32.const ${STEPS - 2})) (local.get $j)) (i32.const ${LOG_STEPS})))
         (local.set $px (i32.add (i32.const ${L.x + V}) (i32.shl (local.get $j) (i32.const 4))))
-        (local.set $py (i32.add (i32.const ${L.y - 8 * V}) (i32.shl (local.get $limbs) (i32.const 4))))
+        (local.set $py (i32.add (i32.const ${L.y - STEPS * V}) (i32.shl (local.get $limbs) (i32.const 4))))
 ${columnSum('high')}
-        (v128.store offset=${L.out} (i32.shl (local.get $j) (i32.const 4)) (local.get $acc0))
-        (local.set $carry (local.get $hi))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
-        (br_if $high (i32.lt_u (local.get $k) (i32.sub (i32.shl (local.get $limbs) (i32.const 1)) (i32.const 1)))))
-      (v128.store offset=${L.out - V} (i32.shl (local.get $limbs) (i32.const 4)) (local.get $carry))
+        (local.set $j (i32.shl (local.get $j) (i32.const 4)))
+${[0, 1, 2, 3].map(highTail).join('')}
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
+        (br_if $high (i32.lt_u (local.get $k) (i32.shl (local.get $limbs) (i32.const 1)))))
       ;; scatter the result limbs back to the four output slots
       (local.set $j (i32.const 0))
       (loop $scatter
