@@ -1,7 +1,8 @@
 import { Hono } from 'hono';
 import { cors } from 'hono/cors';
 import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
-import { answerMultiplications, answerQuery } from '../../core/pir/answer.ts';
+import { answerWithPlan } from '../../core/pir/planned-answer.ts';
+import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { validateQuery } from '../../core/pir/validate.ts';
 import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
 import { requireCredential } from '../auth/require-credential.ts';
@@ -49,10 +50,10 @@ export const publicRoutes = new Hono<AppBindings>()
     const { n, values } = decodeQuery(body);
     validateQuery(n, values, columns);
     const matrix = await loadMatrix(c.env, version.matrixKey!);
-    const rows = answerQuery(matrix, n, values);
+    // The plan the build chose for this matrix (recorded in its manifest).
+    const { rows, products: multiplications } = answerWithPlan(matrix, values, manifest.matrix.plan, createBigIntEngine(n));
     const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
     const serverMs = performance.now() - started;
-    const multiplications = answerMultiplications(matrix);
     c.executionCtx.waitUntil(
       recordAnsweredQuery(db, {
         credentialId: c.var.credentialId,

@@ -56,6 +56,12 @@ describe('upload, build, publish, then a private query through the SDK', () => {
       after = (await env.DB.prepare('SELECT SUM(queries) AS n FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ n: number }>())!.n;
     }
     expect(after).toBe(before!.n + 2);
+    // Products metered per answer are the ones the build's plan promises (manifest.matrix.plan).
+    const { plan } = (await client.manifest('ri-zips')).matrix;
+    const usage = await env.DB.prepare('SELECT SUM(queries) AS q, SUM(multiplications) AS m FROM usage_daily WHERE credential_id = ?')
+      .bind(tenant.apiKeyId)
+      .first<{ q: number; m: number }>();
+    expect(usage!.m).toBe(usage!.q * plan.products);
   });
 
   it('serves the manifest with the matrix shape clients size queries by', async () => {
