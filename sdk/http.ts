@@ -3,13 +3,16 @@ export class NearveilError extends Error {
   readonly status: number;
   readonly code: string;
   readonly field: string | undefined;
+  /** Per-row problems the server listed, for instance the cells of a site table at fault. */
+  readonly details: ReadonlyArray<{ row?: number; column?: string; message: string }>;
 
-  constructor(status: number, code: string, message: string, field?: string) {
+  constructor(status: number, code: string, message: string, field?: string, details: NearveilError['details'] = []) {
     super(message);
     this.name = 'NearveilError';
     this.status = status;
     this.code = code;
     this.field = field;
+    this.details = details;
   }
 }
 
@@ -41,9 +44,9 @@ export async function send(options: HttpOptions, method: string, path: string, b
 async function errorFrom(response: Response): Promise<NearveilError> {
   const text = await response.text();
   try {
-    const body = JSON.parse(text) as { error?: { code?: string; message?: string; field?: string } };
+    const body = JSON.parse(text) as { error?: { code?: string; message?: string; field?: string; details?: NearveilError['details'] } };
     if (body.error?.message) {
-      return new NearveilError(response.status, body.error.code ?? 'error', body.error.message, body.error.field);
+      return new NearveilError(response.status, body.error.code ?? 'error', body.error.message, body.error.field, body.error.details ?? []);
     }
   } catch {
     // not JSON: fall through to the status line

@@ -7,7 +7,8 @@ import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, planProducts } from '../pir/answer-plan.ts';
-import { chooseGrid } from './choose-grid.ts';
+import { chooseGrid, type GridChoice } from './choose-grid.ts';
+import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
@@ -16,6 +17,8 @@ export interface BuildResult {
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
   stats: { regions: number; maxList: number; meanList: number; buildMs: number };
+  /** Every grid weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
+  gridsTried: Array<{ rows: number; cols: number; regions: number; maxList: number; chosen: boolean; cost: ShapeCost }>;
 }
 
 /** Moduli a client may use against this version (see the design's protocol section). */
@@ -47,7 +50,9 @@ export async function buildVersion(
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
   const points = buildSitePoints(lats, lons);
   const slotBits = recordLayout(n, 1).slotBits;
-  const choice = chooseGrid(points, siteBox(lats, lons), slotBits);
+  // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
+  const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
+  const { chosen: choice, tried } = chooseGrid(points, siteBox(lats, lons), slotBits, siteOnes);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
@@ -82,5 +87,19 @@ export async function buildVersion(
       meanList: total / choice.lists.length,
       buildMs: performance.now() - started,
     },
+    gridsTried: tried.map((g: GridChoice) => ({
+      rows: g.layout.rows,
+      cols: g.layout.cols,
+      regions: g.lists.length,
+      maxList: g.slotsPerRegion,
+      chosen: g === choice,
+      cost: g.cost,
+    })),
   };
+}
+
+function popcount(x: number): number {
+  let count = 0;
+  for (let v = x >>> 0; v !== 0; v &= v - 1) count++;
+  return count;
 }

@@ -1,6 +1,8 @@
+import { InputError, type InputIssue } from '../../core/errors/input-error.ts';
 import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
+import { PLAN_HELP, planCommand } from './commands/plan.ts';
 import { QUERY_HELP, queryCommand } from './commands/query.ts';
 
 const HELP = `nearveil: private nearest-site lookup
@@ -10,11 +12,14 @@ ${QUERY_HELP}
 
 ${IMPORT_HELP}
 
+${PLAN_HELP}
+
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
 
 const commands: Record<string, (args: string[], print: (line: string) => void) => Promise<void>> = {
   query: queryCommand,
   import: importCommand,
+  plan: planCommand,
 };
 
 /** Runs one command; returns the exit code (0 ok, 1 refused by the server, 2 a usage mistake). */
@@ -39,8 +44,23 @@ export async function main(argv: string[], print = (line: string) => console.log
     }
     if (err instanceof NearveilError) {
       printError(`nearveil: ${err.message}${err.field ? ` (field: ${err.field})` : ''}${err.status ? ` [HTTP ${err.status} ${err.code}]` : ''}`);
+      printIssues(err.details, printError);
       return 1;
+    }
+    if (err instanceof InputError) {
+      printError(`nearveil: ${err.message}`);
+      printIssues(err.details, printError);
+      return 2;
     }
     throw err;
   }
+}
+
+/** Lists the first problems of a larger input, spreadsheet row and column first. */
+function printIssues(issues: readonly InputIssue[], printError: (line: string) => void): void {
+  for (const issue of issues.slice(0, 10)) {
+    const where = [issue.row === undefined ? '' : `row ${issue.row}`, issue.column ?? ''].filter(Boolean).join(', ');
+    printError(`  ${where ? `${where}: ` : ''}${issue.message}`);
+  }
+  if (issues.length > 10) printError(`  ... and ${issues.length - 10} more listed by the server`);
 }

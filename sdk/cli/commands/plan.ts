@@ -1,0 +1,49 @@
+import { readFileSync } from 'node:fs';
+import { buildVersion } from '../../../core/build/build-version.ts';
+import { COST_MODEL } from '../../../core/build/cost-model.ts';
+import { parseSiteTable } from '../../../core/geo/site-table.ts';
+import { CliError } from '../cli-error.ts';
+import { parseCommand } from '../options.ts';
+
+export const PLAN_HELP = `nearveil plan FILE [--json]
+  Builds the site table locally, without any server, and prints what a query would cost: the
+  grid chosen and every grid weighed, the matrix shape, bytes each way, the server's products
+  (plain and with the chosen answer plan) and the modelled seconds per query.`;
+
+export async function planCommand(args: string[], print: (line: string) => void): Promise<void> {
+  const { values, positionals } = parseCommand('plan', args, { json: { type: 'boolean', default: false }, help: { type: 'boolean', short: 'h', default: false } });
+  if (values.help) return print(PLAN_HELP);
+  if (positionals.length !== 1) throw new CliError(`plan: expected one FILE, got ${positionals.length === 0 ? 'none' : positionals.join(' ')}`);
+  const file = positionals[0]!;
+  let text: string;
+  try {
+    text = readFileSync(file, 'utf8');
+  } catch (err) {
+    throw new CliError(`cannot read ${file}: ${err instanceof Error ? err.message : String(err)}`);
+  }
+  const built = await buildVersion(parseSiteTable(text), { dataset: 'plan', version: 1 });
+  const m = built.manifest;
+  const chosen = built.gridsTried.find((g) => g.chosen)!;
+  if (values.json) {
+    print(JSON.stringify({ siteCount: m.siteCount, layout: m.layout, record: m.record, matrix: m.matrix, buildMs: built.stats.buildMs, gridsTried: built.gridsTried, costModel: COST_MODEL }));
+    return;
+  }
+  const kib = (b: number) => `${(b / 1024).toFixed(0)} KiB`;
+  const lines = [
+    `${m.siteCount} sites, built in ${(built.stats.buildMs / 1000).toFixed(2)} s (nothing uploaded).`,
+    `Layout: uniform grid ${m.layout.rows} x ${m.layout.cols} plus one region outside it; candidate lists padded to ${m.record.slotsPerRegion} slots of ${m.record.slotBits} bits (mean list ${built.stats.meanList.toFixed(1)}).`,
+    `Discloses: the grid box (the sites' bounding box plus a margin) and the longest list; not where sites are inside it.`,
+    `Matrix: ${m.matrix.rows} x ${m.matrix.columns} bits (${(m.matrix.rows * m.matrix.columns / m.siteCount).toFixed(0)} bits per site), ${m.matrix.ones} ones.`,
+    `Per query (${COST_MODEL.modulusBits}-bit key): ${kib(chosen.cost.bytesUp)} up, ${kib(chosen.cost.bytesDown)} down; server products ${m.matrix.plan.products} with plan ${m.matrix.plan.kind === 'blocked' ? `blocked (b = ${m.matrix.plan.blockColumns})` : 'plain'}, ${m.matrix.plan.plainProducts} plain.`,
+    '',
+    'Grids weighed (seconds per query by the cost model: transfer + server + client):',
+    '  grid        regions  list   R x C           up       down     products   seconds',
+    ...built.gridsTried.map((g) =>
+      `${g.chosen ? '* ' : '  '}${`${g.rows} x ${g.cols}`.padEnd(11)} ${String(g.regions).padStart(7)}  ${String(g.maxList).padStart(4)}   ${`${g.cost.rows} x ${g.cost.columns}`.padEnd(14)}  ${kib(g.cost.bytesUp).padStart(8)} ${kib(g.cost.bytesDown).padStart(8)}  ${String(g.cost.products).padStart(9)}   ${g.cost.seconds.total.toFixed(2)}`,
+    ),
+    '',
+    `Cost model: ${COST_MODEL.linkBytesPerSecond * 8 / 1e6} Mbit/s link, ${COST_MODEL.serverSecondsPerProduct * 1e6} us per server product, ` +
+      `${COST_MODEL.clientSecondsPerDecodedRow * 1e6} us per decoded row, ${COST_MODEL.clientSecondsPerColumn * 1e6} us per query column (plain-product estimate before the answer plan).`,
+  ];
+  print(lines.join('\n'));
+}
