@@ -151,7 +151,7 @@ export function kernelText(): string {
   const L = LAYOUT;
   const slotAddress = (field: number, lane: number) =>
     `(i32.add (i32.const ${L.slots}) (i32.mul (i32.load offset=${field * 4 * L.indexCapacity + lane * 4} (local.get $idx)) (local.get $slotBytes)))`;
-  const gather = (name: string, p: string, dst: number, orWith: string | null) => `
+  const gather = (name: string, p: string, dst: number, orWith: number | null) => `
     (local.set $j (i32.const 0))
     (loop $${name}
       (local.set $v0 (v128.load (i32.add (local.get $${p}0) (local.get $j))))
