@@ -13,7 +13,7 @@ import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
-import { loadManifest, loadMatrix } from './version-cache.ts';
+import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
 
 /** No real matrix needs a bigger query than this; the exact size is checked per version. */
 const MAX_QUERY_BYTES = 32 * 1024 * 1024;
@@ -51,7 +51,7 @@ export const publicRoutes = new Hono<AppBindings>()
     validateQuery(n, values, columns);
     const matrix = await loadMatrix(c.env, version.matrixKey!);
     // The plan the build chose for this matrix (recorded in its manifest).
-    const { rows, products: multiplications } = answerWithPlan(matrix, values, manifest.matrix.plan, createBigIntEngine(n));
+    const { rows, products: multiplications } = answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), createBigIntEngine(n));
     const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
     const serverMs = performance.now() - started;
     c.executionCtx.waitUntil(

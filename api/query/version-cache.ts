@@ -1,4 +1,6 @@
 import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
+import type { AnswerPlan } from '../../core/pir/answer-plan.ts';
+import { mineMatrix, minedProducts, type MinedPlan } from '../../core/pir/mined-plan.ts';
 import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
 import { decodeMatrixBlob } from '../../core/matrix/matrix-blob.ts';
 import type { Env } from '../env.ts';
@@ -11,6 +13,7 @@ import { getBlobBytes, getBlobText } from '../storage/blobs.ts';
 const MAX_MATRICES = 4;
 const manifests = new Map<string, Manifest>();
 const matrices = new Map<string, BitMatrix>();
+const minedPlans = new Map<string, MinedPlan>();
 
 export async function loadManifest(env: Env, key: string): Promise<Manifest> {
   const hit = manifests.get(key);
@@ -37,4 +40,24 @@ export async function loadMatrix(env: Env, key: string): Promise<BitMatrix> {
   if (matrices.size >= MAX_MATRICES) matrices.delete(matrices.keys().next().value!);
   matrices.set(key, matrix);
   return matrix;
+}
+
+/**
+ * The answer plan the build recorded. A mined plan is mined again from the matrix (deterministic)
+ * once per isolate and checked against the product count the build recorded.
+ */
+export function answerPlanFor(manifest: Manifest, matrix: BitMatrix): AnswerPlan {
+  const record = manifest.matrix.plan;
+  if (record.kind === 'plain') return { kind: 'plain' };
+  if (record.kind === 'blocked') return { kind: 'blocked', blockColumns: record.blockColumns };
+  let mined = minedPlans.get(manifest.contentHash);
+  if (!mined) {
+    mined = mineMatrix(matrix);
+    if (minedProducts(mined) !== record.products) {
+      throw new Error(`mined plan of ${manifest.contentHash} costs ${minedProducts(mined)} products, the build recorded ${record.products}`);
+    }
+    if (minedPlans.size >= MAX_MATRICES) minedPlans.delete(minedPlans.keys().next().value!);
+    minedPlans.set(manifest.contentHash, mined);
+  }
+  return { kind: 'mined', mined };
 }

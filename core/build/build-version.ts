@@ -6,7 +6,8 @@ import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, planProducts } from '../pir/answer-plan.ts';
+import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
+import type { PlanRecord } from '../geo/manifest.ts';
 import { chooseGrid, type GridChoice } from './choose-grid.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
@@ -72,7 +73,7 @@ export async function buildVersion(
       columns: matrix.columns,
       regionsPerColumn: choice.packing.regionsPerColumn,
       ones: countOnes(matrix),
-      plan: { ...planned.plan, products: planned.products, plainProducts: planProducts(matrix, { kind: 'plain' }) },
+      plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
   } satisfies Manifest);
@@ -102,4 +103,16 @@ function popcount(x: number): number {
   let count = 0;
   for (let v = x >>> 0; v !== 0; v &= v - 1) count++;
   return count;
+}
+
+const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
+
+/** The manifest's account of the answer plan: the choice, its products, and all plans weighed. */
+function planRecord(choice: ReturnType<typeof choosePlan>): PlanRecord {
+  const plainProducts = choice.weighed[0]!.products;
+  const weighed = choice.weighed.map((w) => ({ plan: planName(w.plan), products: w.products }));
+  const p = choice.plan;
+  if (p.kind === 'blocked') return { kind: 'blocked', blockColumns: p.blockColumns, products: choice.products, plainProducts, weighed };
+  if (p.kind === 'mined') return { kind: 'mined', rules: p.mined.rules.length, products: choice.products, plainProducts, weighed };
+  return { kind: 'plain', products: choice.products, plainProducts, weighed };
 }

@@ -39,15 +39,16 @@ export const RecordSchema = z
  * How the server answers this matrix (core/pir/answer-plan.ts), recorded with the build: the
  * products one answer costs with this plan and with the plain one, so the choice explains itself.
  */
+const products = z.number().int().min(0);
+/** Every plan the build weighed, e.g. { plan: 'blocked b=6', products: 86015 }: the reason for the choice. */
+const weighed = z.array(z.object({ plan: z.string(), products })).optional();
 export const PlanRecordSchema = z.discriminatedUnion('kind', [
-  z.object({ kind: z.literal('plain'), products: z.number().int().min(0), plainProducts: z.number().int().min(0) }),
-  z.object({
-    kind: z.literal('blocked'),
-    blockColumns: z.number().int().min(1).max(12),
-    products: z.number().int().min(0),
-    plainProducts: z.number().int().min(0),
-  }),
+  z.object({ kind: z.literal('plain'), products, plainProducts: products, weighed }),
+  z.object({ kind: z.literal('blocked'), blockColumns: z.number().int().min(1).max(12), products, plainProducts: products, weighed }),
+  // The rules are mined again from the stored matrix by the server (mining is deterministic).
+  z.object({ kind: z.literal('mined'), rules: z.number().int().min(0), products, plainProducts: products, weighed }),
 ]);
+export type PlanRecord = z.infer<typeof PlanRecordSchema>;
 
 export const ManifestSchema = z
   .object({

@@ -1,4 +1,5 @@
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
+import { mineMatrix, minedProducts, type MinedPlan } from './mined-plan.ts';
 
 /**
  * How the server computes an answer; every plan gives the same products, only the work differs.
@@ -6,9 +7,13 @@ import type { BitMatrix } from '../matrix/bit-matrix.ts';
  * - blocked: columns in blocks of b; per query and block, the 2^b subset products of the block's
  *   values are tabulated (one product per entry beyond the singles), then each row takes one
  *   product per block where its b bits are not all zero (the "method of four Russians").
- * Both add two products per row for the blinding.
+ * - mined: column sets shared by many rows are multiplied once and reused (mined-plan.ts).
+ * All add two products per row for the blinding.
  */
-export type AnswerPlan = { readonly kind: 'plain' } | { readonly kind: 'blocked'; readonly blockColumns: number };
+export type AnswerPlan =
+  | { readonly kind: 'plain' }
+  | { readonly kind: 'blocked'; readonly blockColumns: number }
+  | { readonly kind: 'mined'; readonly mined: MinedPlan };
 
 export const MAX_BLOCK_COLUMNS = 12;
 
@@ -31,6 +36,7 @@ export function tableProducts(width: number): number {
  * once per block, so O(rows * columns / b): cheap next to a single answer.
  */
 export function planProducts(m: BitMatrix, plan: AnswerPlan): number {
+  if (plan.kind === 'mined') return minedProducts(plan.mined);
   const blinding = 2 * m.rows;
   if (plan.kind === 'plain') {
     let total = blinding;
@@ -68,8 +74,9 @@ export interface PlanChoice {
 }
 
 /**
- * The plan with the fewest products on this matrix (ties to the smaller table). Dense matrices
- * favour blocks of 6-10 columns; sparse ones (most slots are padding) favour plain.
+ * The plan with the fewest products on this matrix (ties to the earlier weighed: plain, then
+ * smaller blocks, then mined). Dense random matrices favour blocks of 6-10 columns; cell
+ * matrices, whose regions repeat neighbouring sites, tend to favour mined column sets.
  */
 export function choosePlan(m: BitMatrix): PlanChoice {
   const weighed: Array<{ plan: AnswerPlan; products: number }> = [{ plan: { kind: 'plain' }, products: planProducts(m, { kind: 'plain' }) }];
@@ -77,6 +84,8 @@ export function choosePlan(m: BitMatrix): PlanChoice {
     const plan: AnswerPlan = { kind: 'blocked', blockColumns: b };
     weighed.push({ plan, products: planProducts(m, plan) });
   }
+  const mined: AnswerPlan = { kind: 'mined', mined: mineMatrix(m) };
+  weighed.push({ plan: mined, products: planProducts(m, mined) });
   const best = weighed.reduce((a, c) => (c.products < a.products ? c : a));
   return { plan: best.plan, products: best.products, weighed };
 }

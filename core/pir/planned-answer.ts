@@ -1,6 +1,7 @@
 import { randomBelow } from '../bigint/random.ts';
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
 import { rowBlockBits, type AnswerPlan } from './answer-plan.ts';
+import type { MinedPlan } from './mined-plan.ts';
 import type { ProductEngine } from './product-engine.ts';
 
 /**
@@ -36,9 +37,14 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   }
   const R = matrix.rows;
   const started = new Uint8Array(R);
-  const working = plan.kind === 'plain' ? matrix.columns : 2 ** plan.blockColumns;
+  const working = plan.kind === 'plain' ? matrix.columns : plan.kind === 'blocked' ? 2 ** plan.blockColumns : matrix.columns + plan.mined.rules.length;
   engine.ensureSlots(R + working + 2 * R);
-  let products = plan.kind === 'plain' ? plainProducts(matrix, values, engine, started) : blockedProducts(matrix, values, plan.blockColumns, engine, started);
+  let products =
+    plan.kind === 'plain'
+      ? plainProducts(matrix, values, engine, started)
+      : plan.kind === 'blocked'
+        ? blockedProducts(matrix, values, plan.blockColumns, engine, started)
+        : minedRowProducts(plan.mined, values, engine, started);
   if (blinded) products += blind(engine, R, R + working, started);
   const rows = new Array<bigint>(R);
   for (let r = 0; r < R; r++) rows[r] = started[r] || blinded ? engine.get(r) : 1n;
@@ -75,39 +81,72 @@ class Batch {
   }
 }
 
-/** Plain: round t multiplies every row that has more than t ones by the value of its t-th one. */
+/** Plain: each row multiplies the values of its 1-columns. */
 function plainProducts(m: BitMatrix, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
   const R = m.rows;
-  const valueBase = R;
-  for (let j = 0; j < m.columns; j++) engine.set(valueBase + j, values[j]!);
-  const ones: number[][] = [];
-  let longest = 0;
+  for (let j = 0; j < m.columns; j++) engine.set(R + j, values[j]!);
+  const rows: number[][] = [];
   for (let r = 0; r < R; r++) {
     const cols: number[] = [];
     for (let k = 0; k < m.wordsPerRow; k++) {
       let w = m.words[r * m.wordsPerRow + k]!;
       while (w !== 0) {
-        cols.push((k << 5) + 31 - Math.clz32(w & -w));
+        cols.push(R + (k << 5) + 31 - Math.clz32(w & -w));
         w &= w - 1;
       }
     }
-    if (cols.length > 0) {
-      engine.copy(r, valueBase + cols[0]!);
+    rows.push(cols);
+  }
+  return multiplyRows(rows, engine, started);
+}
+
+/**
+ * Each row r's accumulator becomes the product of the slots listed for it: the first is copied,
+ * then round t multiplies every row that has more than t slots by its t-th (one batch a round).
+ */
+function multiplyRows(rows: ReadonlyArray<ArrayLike<number>>, engine: ProductEngine, started: Uint8Array): number {
+  let longest = 0;
+  rows.forEach((slots, r) => {
+    if (slots.length > 0) {
+      engine.copy(r, slots[0]!);
       started[r] = 1;
     }
-    ones.push(cols);
-    longest = Math.max(longest, cols.length);
-  }
+    longest = Math.max(longest, slots.length);
+  });
   const batch = new Batch();
   let products = 0;
   for (let t = 1; t < longest; t++) {
-    for (let r = 0; r < R; r++) {
-      const cols = ones[r]!;
-      if (t < cols.length) batch.push(r, r, valueBase + cols[t]!);
-    }
+    rows.forEach((slots, r) => {
+      if (t < slots.length) batch.push(r, r, slots[t]!);
+    });
     products += batch.run(engine);
   }
   return products;
+}
+
+/** Mined: the shared column sets first (level by level, so each batch is independent), then rows. */
+function minedRowProducts(mined: MinedPlan, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
+  const R = mined.rows.length;
+  // Symbol s lives in slot R + s: values first, then rules in order.
+  for (let j = 0; j < mined.columns; j++) engine.set(R + j, values[j]!);
+  const depth = new Int32Array(mined.columns + mined.rules.length);
+  const levels: number[][] = [];
+  mined.rules.forEach(([a, b], i) => {
+    const d = 1 + Math.max(depth[a]!, depth[b]!);
+    depth[mined.columns + i] = d;
+    (levels[d - 1] ??= []).push(i);
+  });
+  const batch = new Batch();
+  let products = 0;
+  for (const level of levels) {
+    for (const i of level) {
+      const [a, b] = mined.rules[i]!;
+      batch.push(R + mined.columns + i, R + a, R + b);
+    }
+    products += batch.run(engine);
+  }
+  const rows = mined.rows.map((symbols) => Array.from(symbols, (s) => R + s));
+  return products + multiplyRows(rows, engine, started);
 }
 
 /** Blocked: per block of b columns, a table of subset products, then one product per row. */

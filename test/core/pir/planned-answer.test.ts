@@ -7,6 +7,7 @@ import { choosePlan, planProducts, type AnswerPlan } from '../../../core/pir/ans
 import { decodeRows } from '../../../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../../../core/pir/keys.ts';
 import { answerWithPlan, unblindedRowProducts } from '../../../core/pir/planned-answer.ts';
+import { mineMatrix } from '../../../core/pir/mined-plan.ts';
 import { createBigIntEngine } from '../../../core/pir/product-engine.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
 
@@ -31,7 +32,8 @@ function jsbnRowProducts(m: BitMatrix, values: readonly bigint[], n: bigint): bi
   return out;
 }
 
-const PLANS: AnswerPlan[] = [{ kind: 'plain' }, ...[1, 2, 3, 5, 8, 11].map((b) => ({ kind: 'blocked', blockColumns: b }) as const)];
+const FIXED_PLANS: AnswerPlan[] = [{ kind: 'plain' }, ...[1, 2, 3, 5, 8, 11].map((b) => ({ kind: 'blocked', blockColumns: b }) as const)];
+const plansFor = (m: BitMatrix): AnswerPlan[] => [...FIXED_PLANS, { kind: 'mined', mined: mineMatrix(m) }];
 
 describe('answer plans', () => {
   let key: PirKeyPair;
@@ -41,11 +43,11 @@ describe('answer plans', () => {
 
   it('every plan gives jsbn\'s row products and does exactly the products planProducts counts', () => {
     fc.assert(
-      fc.property(fc.integer({ min: 1, max: 9 }), fc.integer({ min: 1, max: 40 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.nat(), (rows, cols, density, seed) => {
+      fc.property(fc.integer({ min: 1, max: 30 }), fc.integer({ min: 1, max: 40 }), fc.double({ min: 0, max: 1, noNaN: true }), fc.nat(), (rows, cols, density, seed) => {
         const m = randomMatrix(rows, cols, density, seed);
         const values = Array.from({ length: cols }, () => randomBelow(key.n - 1n) + 1n);
         const reference = jsbnRowProducts(m, values, key.n);
-        for (const plan of PLANS) {
+        for (const plan of plansFor(m)) {
           const { rows: got, products } = unblindedRowProducts(m, values, plan, createBigIntEngine(key.n));
           expect(got).toEqual(reference);
           expect(products + 2 * rows).toBe(planProducts(m, plan));
@@ -57,13 +59,25 @@ describe('answer plans', () => {
 
   it('a blinded answer by any plan decodes to the queried column', () => {
     const m = randomMatrix(24, 37, 0.45, 7);
-    for (const plan of PLANS) {
+    const mined = mineMatrix(m);
+    expect(mined.rules.length).toBeGreaterThan(0);
+    for (const plan of plansFor(m)) {
       for (const column of [0, 18, 36]) {
         const { rows, products } = answerWithPlan(m, makeQuery(key, m.columns, column), plan, createBigIntEngine(key.n));
         expect(Array.from(decodeRows(key, rows))).toEqual(Array.from(readColumn(m, column)));
         expect(products).toBe(planProducts(m, plan));
       }
     }
+  });
+
+  it('mined rules pay off on rows that share column sets', () => {
+    // 60 rows drawn from 4 shared column patterns: every pattern is one rule chain, reused.
+    const patterns = [0, 1, 2, 3].map((p) => randomMatrix(1, 64, 0.5, 100 + p));
+    const m = createBitMatrix(60, 64);
+    for (let r = 0; r < 60; r++) for (let c = 0; c < 64; c++) if ((patterns[r % 4]!.words[c >>> 5]! >>> (c & 31)) & 1) setBit(m, r, c, 1);
+    const choice = choosePlan(m);
+    expect(choice.plan.kind).toBe('mined');
+    expect(choice.products).toBeLessThan(planProducts(m, { kind: 'plain' }) / 4);
   });
 
   it('chooses blocks for a dense random matrix and plain for a very sparse one', () => {
