@@ -1,6 +1,7 @@
 import { readFileSync } from 'node:fs';
 import { buildVersion } from '../../../core/build/build-version.ts';
 import { COST_MODEL } from '../../../core/build/cost-model.ts';
+import type { PlanRecord } from '../../../core/geo/manifest.ts';
 import { parseSiteTable } from '../../../core/geo/site-table.ts';
 import { CliError } from '../cli-error.ts';
 import { parseCommand } from '../options.ts';
@@ -34,7 +35,8 @@ export async function planCommand(args: string[], print: (line: string) => void)
     `Layout: uniform grid ${m.layout.rows} x ${m.layout.cols} plus one region outside it; candidate lists padded to ${m.record.slotsPerRegion} slots of ${m.record.slotBits} bits (mean list ${built.stats.meanList.toFixed(1)}).`,
     `Discloses: the grid box (the sites' bounding box plus a margin) and the longest list; not where sites are inside it.`,
     `Matrix: ${m.matrix.rows} x ${m.matrix.columns} bits (${(m.matrix.rows * m.matrix.columns / m.siteCount).toFixed(0)} bits per site), ${m.matrix.ones} ones.`,
-    `Per query (${COST_MODEL.modulusBits}-bit key): ${kib(chosen.cost.bytesUp)} up, ${kib(chosen.cost.bytesDown)} down; server products ${m.matrix.plan.products} with plan ${m.matrix.plan.kind === 'blocked' ? `blocked (b = ${m.matrix.plan.blockColumns})` : 'plain'}, ${m.matrix.plan.plainProducts} plain.`,
+    `Per query (${COST_MODEL.modulusBits}-bit key): ${kib(chosen.cost.bytesUp)} up, ${kib(chosen.cost.bytesDown)} down; server products ${m.matrix.plan.products} with the ${planLabel(m.matrix.plan)} plan, ${m.matrix.plan.plainProducts} plain.`,
+    `Answer plans weighed: ${(m.matrix.plan.weighed ?? []).map((w) => `${w.plan} ${w.products}`).join(', ')}.`,
     '',
     'Grids weighed (seconds per query by the cost model: transfer + server + client):',
     '  grid        regions  list   R x C           up       down     products   seconds',
@@ -46,4 +48,10 @@ export async function planCommand(args: string[], print: (line: string) => void)
       `${COST_MODEL.clientSecondsPerDecodedRow * 1e6} us per decoded row, ${COST_MODEL.clientSecondsPerColumn * 1e6} us per query column (plain-product estimate before the answer plan).`,
   ];
   print(lines.join('\n'));
+}
+
+function planLabel(plan: PlanRecord): string {
+  if (plan.kind === 'blocked') return `blocked (b = ${plan.blockColumns})`;
+  if (plan.kind === 'mined') return `mined (${plan.rules} shared column sets)`;
+  return 'plain';
 }
