@@ -19,11 +19,6 @@ export interface MontgomeryKernel {
   multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
 }
 
-const LIMB_BITS = 12;
-const LIMB_MASK = (1 << LIMB_BITS) - 1;
-
-/** Limb count for each served modulus size: R = 2^(12L) must exceed 4n. */
-const LIMBS = { 2048: 171, 3072: 257 } as const;
 
 /**
  * The kernel size a modulus needs: 2048 for odd n of at most 2048 bits, 3072 up to 3072 bits.
@@ -42,6 +37,7 @@ export function kernelBitsFor(n: bigint): 2048 | 3072 {
 interface KernelExports {
   memory: WebAssembly.Memory;
   multiply: (groups: number, limbs: number, slotBytes: number) => void;
+  limbBits: WebAssembly.Global;
   maxLimbs: WebAssembly.Global;
   modulusShifted: WebAssembly.Global;
   negInverse: WebAssembly.Global;
@@ -56,7 +52,7 @@ function kernelExports(module: WebAssembly.Module): KernelExports {
     throw new TypeError(`createMontgomeryKernel: expected WebAssembly.Module, got ${typeof module}`);
   }
   const e = new WebAssembly.Instance(module, {}).exports as Partial<KernelExports>;
-  const globals = ['maxLimbs', 'modulusShifted', 'negInverse', 'lowLimb', 'index', 'indexCapacity', 'slots'] as const;
+  const globals = ['limbBits', 'maxLimbs', 'modulusShifted', 'negInverse', 'lowLimb', 'index', 'indexCapacity', 'slots'] as const;
   if (!(e.memory instanceof WebAssembly.Memory) || typeof e.multiply !== 'function' || globals.some((g) => !(e[g] instanceof WebAssembly.Global))) {
     throw new TypeError('createMontgomeryKernel: expected the Montgomery kernel module, got a module without its exports');
   }
@@ -71,21 +67,24 @@ function checkSlotIndex(fn: string, slot: number, slots: number): void {
 
 /**
  * A kernel instance for the odd modulus n (3 <= n, at most 3072 bits). Slot values are kept in
- * Montgomery form below 2n (R = 2^(12L) > 4n, so products of such values stay below 2n).
+ * Montgomery form below 2n (R = 2^(13L) > 4n with the committed 13-bit limbs, so products of such
+ * values stay below 2n).
  * Variable-time only in the slot indices and count (the limb arithmetic has no data-dependent
  * branches). Throws TypeError for a wrong module or argument types, RangeError for an even n, a
  * size the module does not serve, or out-of-range slots and values.
  */
 export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): MontgomeryKernel {
-  const limbs = LIMBS[kernelBitsFor(n)];
+  const size = kernelBitsFor(n);
   const e = kernelExports(module);
-  if (limbs > (e.maxLimbs.value as number)) {
+  const limbBits = e.limbBits.value as number;
+  // R = 2^(limbBits * L) > 4n for every n of the size, so products of values below 2n stay below 2n.
+  const limbs = Math.ceil((size + 2) / limbBits);
+  if (limbBits < 8 || limbBits > 14 || limbs > (e.maxLimbs.value as number)) {
     throw new RangeError(`createMontgomeryKernel: expected a module serving ${limbs} limbs, got at most ${e.maxLimbs.value}`);
   }
   const padded = Math.ceil(limbs / 4) * 4;
   const slotBytes = padded * 4;
-  const hexDigits = (limbs * LIMB_BITS) / 4;
-  const shift = BigInt(limbs * LIMB_BITS);
+  const shift = BigInt(limbs * limbBits);
   const rModN = (1n << shift) % n;
   const rInverse = modInverse(rModN, n);
   const indexBase = (e.index.value as number) / 4;
@@ -96,15 +95,16 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   let stamps = new Uint32Array(slots);
   let stamp = 0;
 
-  // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^12 and n_0.
-  const nLimbs = toLimbs(n, hexDigits, limbs);
+  // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^limbBits and n_0.
+  const nLimbs = toLimbs(n, limbs, limbBits);
   for (let j = 0; j < limbs; j++) words.fill(nLimbs[j]! << 16, (e.modulusShifted.value as number) / 4 + 4 * j, (e.modulusShifted.value as number) / 4 + 4 * j + 4);
-  const negInverse = 4096 - Number(modInverse(n & 0xfffn, 4096n));
-  words.fill(negInverse & LIMB_MASK, (e.negInverse.value as number) / 4, (e.negInverse.value as number) / 4 + 4);
+  const digit = 2 ** limbBits;
+  const negInverse = (digit - Number(modInverse(n % BigInt(digit), BigInt(digit)))) % digit;
+  words.fill(negInverse, (e.negInverse.value as number) / 4, (e.negInverse.value as number) / 4 + 4);
   words.fill(nLimbs[0]!, (e.lowLimb.value as number) / 4, (e.lowLimb.value as number) / 4 + 4);
 
   const writeValue = (slot: number, value: bigint) => {
-    const limbValues = toLimbs(value, hexDigits, limbs);
+    const limbValues = toLimbs(value, limbs, limbBits);
     const at = slotBase + slot * padded;
     words.set(limbValues, at);
     words.fill(0, at + limbs, at + padded);
@@ -135,9 +135,7 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
     get(slot: number) {
       checkSlotIndex('get', slot, slots);
       const at = slotBase + slot * padded;
-      let hex = '';
-      for (let j = limbs - 1; j >= 0; j--) hex += words[at + j]!.toString(16).padStart(3, '0');
-      return (BigInt('0x' + hex) * rInverse) % n;
+      return (fromLimbs(words.subarray(at, at + limbs), limbBits) * rInverse) % n;
     },
     setOne(slot: number) {
       checkSlotIndex('setOne', slot, slots);
@@ -190,10 +188,41 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   };
 }
 
-/** Little-endian 12-bit limbs of 0 <= x < 2^(12 * count), read three hex digits at a time. */
-function toLimbs(x: bigint, hexDigits: number, count: number): Uint32Array {
-  const hex = x.toString(16).padStart(hexDigits, '0');
+/** Little-endian limbs of `bits` bits of 0 <= x < 2^(bits * count), from its hex digits. */
+function toLimbs(x: bigint, count: number, bits: number): Uint32Array {
+  const hex = x.toString(16);
   const out = new Uint32Array(count);
-  for (let j = 0; j < count; j++) out[j] = parseInt(hex.slice(hexDigits - 3 * j - 3, hexDigits - 3 * j), 16);
+  const mask = 2 ** bits - 1;
+  let buffer = 0;
+  let held = 0;
+  let j = 0;
+  for (let d = hex.length - 1; d >= 0; d--) {
+    buffer |= parseInt(hex[d]!, 16) << held;
+    held += 4;
+    if (held >= bits) {
+      out[j++] = buffer & mask;
+      buffer >>>= bits;
+      held -= bits;
+    }
+  }
+  if (held > 0 && j < count) out[j] = buffer;
   return out;
+}
+
+/** The value of little-endian limbs of `bits` bits each (each below 2^bits). */
+function fromLimbs(limbs: Uint32Array, bits: number): bigint {
+  const digits: string[] = [];
+  let buffer = 0;
+  let held = 0;
+  for (const limb of limbs) {
+    buffer |= limb << held;
+    held += bits;
+    while (held >= 4) {
+      digits.push((buffer & 15).toString(16));
+      buffer >>>= 4;
+      held -= 4;
+    }
+  }
+  if (held > 0) digits.push(buffer.toString(16));
+  return BigInt('0x' + (digits.reverse().join('') || '0'));
 }

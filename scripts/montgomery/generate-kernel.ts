@@ -9,15 +9,16 @@
  * gives the committed bytes exactly.
  *
  * Method (product scanning, four independent products in the four i32 lanes of a v128):
- * - numbers are L limbs of 12 bits; with R = 2^(12L) > 4n, inputs below 2n give outputs below 2n,
+ * - numbers are L limbs of 13 bits (158 limbs for 2048-bit moduli, 237 for 3072); with
+ *   R = 2^(13L) > 4n, inputs below 2n give outputs below 2n,
  *   so values stay in Montgomery form and no final subtraction is needed;
  * - X[i] holds, per lane, the pair (a_i, q_i) as two i16 and Y[j] the pair (b_j, n_j), so one
  *   i32x4.dot_i16x8_s adds a_i*b_j + q_i*n_j for all four lanes (each below 2^25);
  * - four neighbouring columns are summed together, so each step loads one X and one Y vector for
  *   four dots (the other Y vectors slide along in locals); blocks of 4 steps keep the live vectors
  *   within the 16 registers the engine uses, which measured faster than blocks of 8;
- * - column sums are split into a low 12-bit part and a carry only every 120 steps, so an i32 lane
- *   never exceeds 2^32 (120 * 2 * 4095^2 + carry < 2^32, read unsigned);
+ * - column sums are split into a low 13-bit part and a carry only every 28 steps, so an i32 lane
+ *   never exceeds 2^32 (28 * 2 * 8191^2 + carry < 2^32, read unsigned);
  * - the low-order dots of a column use zero X vectors below X[0] and zero Y vectors above L as
  *   padding, so block counts round up without branches.
  */
@@ -25,18 +26,27 @@ import { writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import wabtInit from 'wabt';
 
-/** Largest limb count served (3072-bit moduli: 12 * 257 = 3084 >= 3072 + 2). */
-export const MAX_LIMBS = 257;
-const MAX_PADDED = 260; // limbs per slot rounded up to a multiple of 4
+/**
+ * Bits per limb. Limbs and the reduction digits q must stay below 2^15 (signed i16 lanes). 13 bits
+ * measured fastest: 12 needs 15% more dots (171 limbs instead of 158 at 2048 bits), 14 must split
+ * column sums after every 7 dots.
+ */
+export const LIMB_BITS = 13;
+const MASK = 2 ** LIMB_BITS - 1;
+/** Largest limb count served: R = 2^(LIMB_BITS * L) > 4n for 3072-bit n. */
+export const MAX_LIMBS = Math.ceil((3072 + 2) / LIMB_BITS);
+const MAX_PADDED = Math.ceil(MAX_LIMBS / 4) * 4; // limbs per slot rounded up to a multiple of 4
 const V = 16; // bytes per v128
 const LOG_STEPS = 2; // 4 steps a block measured faster than 8 (fewer spilled registers); must stay a multiple of 4
 const STEPS = 1 << LOG_STEPS; // values of i per unrolled block
-const CHUNK = Math.floor(120 / STEPS); // blocks between splits: at most 120 dots per lane and column
+/** Blocks between splits: dots (each below 2 * MASK^2) plus a low part and carry below 2^23 stay below 2^32. */
+const CHUNK = Math.floor(Math.floor((2 ** 32 - 2 ** 23) / (2 * MASK * MASK)) / STEPS);
+if ((MAX_LIMBS * 2 * MASK * MASK) / 2 ** LIMB_BITS + MASK >= 2 ** 23 || CHUNK < 1) throw new Error('limb size leaves no room');
 
 /** Byte offsets of the fixed areas; exported from the module as immutable globals. */
 export const LAYOUT = (() => {
   const modulusShifted = 0; // MAX_PADDED vectors: splat(n_j << 16)
-  const negInverse = modulusShifted + MAX_PADDED * V; // splat(-n^-1 mod 2^12)
+  const negInverse = modulusShifted + MAX_PADDED * V; // splat(-n^-1 mod 2^LIMB_BITS)
   const lowLimb = negInverse + V; // splat(n_0)
   const yZeros = lowLimb + V; // 8 zero vectors below Y[0]
   const y = yZeros + 8 * V; // MAX_PADDED + 16 vectors: lanes (b_j, n_j), zero above L
@@ -74,12 +84,12 @@ function transpose(): string {
 }
 
 /**
- * Sums four neighbouring columns k + c (c = 0..3) at once over $blocks blocks of 8 values of i,
+ * Sums four neighbouring columns k + c (c = 0..3) at once over $blocks blocks of STEPS values of i,
  * starting at X[$px]: column k + c adds dot(X[i], Y[k + c - i]). Each step loads one X and one Y
  * vector and does four dots; the three other Y vectors are kept in a sliding window $y0..$y3 (the
- * window is loaded before the first block). $py points 7 vectors below Y[k - i] for the block's
- * first i. Every 15 blocks (at most 120 dots per lane and column) each sum is split into 12 low
- * bits in $acc<c> and the rest added to $hi<c>.
+ * window is loaded before the first block). $py points STEPS - 1 vectors below Y[k - i] for the block's
+ * first i. Every CHUNK blocks (at most 31 dots per lane and column) each sum is split into its low
+ * bits in $acc<c> and the rest added to its vector in the hi area.
  */
 function columnSum(label: string): string {
   const steps: string[] = [];
@@ -96,8 +106,8 @@ function columnSum(label: string): string {
   const split = [0, 1, 2, 3]
     .map(
       (c) => `
-        (v128.store (i32.const ${LAYOUT.hi + c * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $acc${c}) (i32.const 12))))
-        (local.set $acc${c} (v128.and (local.get $acc${c}) (v128.const i32x4 4095 4095 4095 4095)))`,
+        (v128.store (i32.const ${LAYOUT.hi + c * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $acc${c}) (i32.const ${LIMB_BITS}))))
+        (local.set $acc${c} (v128.and (local.get $acc${c}) (v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})))`,
     )
     .join('');
   const zero = '(v128.const i32x4 0 0 0 0)';
@@ -119,7 +129,7 @@ function columnSum(label: string): string {
         (br $${label}_chunk)))`;
 }
 
-/** Finishes low column k + c: adds the terms i = k..k+c, picks q_{k+c} and shifts out 12 zero bits. */
+/** Finishes low column k + c: adds the terms i = k..k+c, picks q_{k+c} and shifts out LIMB_BITS zero bits. */
 function lowTail(c: number): string {
   const L = LAYOUT;
   const terms = [];
@@ -130,20 +140,20 @@ function lowTail(c: number): string {
   return `
         (if (i32.lt_u (i32.add (local.get $k) (i32.const ${c})) (local.get $limbs)) (then
           (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))${terms.join('')}
-          (local.set $xi (v128.and (i32x4.mul (local.get $sum) (v128.load (i32.const ${LAYOUT.negInverse}))) (v128.const i32x4 4095 4095 4095 4095)))
+          (local.set $xi (v128.and (i32x4.mul (local.get $sum) (v128.load (i32.const ${LAYOUT.negInverse}))) (v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})))
           (v128.store offset=${L.x + c * V} (local.get $j)
             (v128.or (v128.load offset=${L.x + c * V} (local.get $j)) (i32x4.shl (local.get $xi) (i32.const 16))))
           (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $xi) (v128.load (i32.const ${LAYOUT.lowLimb})))))
-          (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const 12))))))`;
+          (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))))`;
 }
 
-/** Finishes high column k + c: its low 12 bits are result limb k + c - L. */
+/** Finishes high column k + c: its low LIMB_BITS bits are result limb k + c - L. */
 function highTail(c: number): string {
   const L = LAYOUT;
   return `
         (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))
-        (v128.store offset=${L.out + c * V} (local.get $j) (v128.and (local.get $sum) (v128.const i32x4 4095 4095 4095 4095)))
-        (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const 12))))`;
+        (v128.store offset=${L.out + c * V} (local.get $j) (v128.and (local.get $sum) (v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})))
+        (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))`;
 }
 
 /** The module's text. */
@@ -169,6 +179,7 @@ ${[0, 1, 2, 3]
       (br_if $${name} (i32.lt_u (local.get $j) (local.get $slotBytes))))`;
   return `(module
   (memory (export "memory") 1)
+  (global (export "limbBits") i32 (i32.const ${LIMB_BITS}))
   (global (export "maxLimbs") i32 (i32.const ${MAX_LIMBS}))
   (global (export "modulusShifted") i32 (i32.const ${L.modulusShifted}))
   (global (export "negInverse") i32 (i32.const ${L.negInverse}))
