@@ -1,5 +1,8 @@
 // Runtime-free wrapper around the WebAssembly Montgomery kernel (scripts/montgomery/generate-kernel.ts
 // writes core/montgomery/kernel.wasm). Products are computed four at a time, one per SIMD lane.
+// Loading: a Worker imports the .wasm (`import kernel from '.../kernel.wasm'`, a compiled module;
+// Workers refuse to compile bytes at run time); Node uses scripts/montgomery/load-kernel-node.ts.
+// One module serves 2048- and 3072-bit moduli alike.
 import { modInverse } from '../bigint/modular.ts';
 
 export interface MontgomeryKernel {
@@ -69,9 +72,10 @@ function checkSlotIndex(fn: string, slot: number, slots: number): void {
  * A kernel instance for the odd modulus n (3 <= n, at most 3072 bits). Slot values are kept in
  * Montgomery form below 2n (R = 2^(13L) > 4n with the committed 13-bit limbs, so products of such
  * values stay below 2n).
- * Variable-time only in the slot indices and count (the limb arithmetic has no data-dependent
- * branches). Throws TypeError for a wrong module or argument types, RangeError for an even n, a
- * size the module does not serve, or out-of-range slots and values.
+ * multiplyMany's limb arithmetic has no data-dependent branches or memory addresses (its time
+ * depends on the count and the slot indices only); set and get use BigInt and are variable-time.
+ * Throws TypeError for a wrong module or argument types, RangeError for an even n, a size the
+ * module does not serve, or out-of-range slots and values.
  */
 export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): MontgomeryKernel {
   const size = kernelBitsFor(n);
@@ -79,7 +83,10 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   const limbBits = e.limbBits.value as number;
   // R = 2^(limbBits * L) > 4n for every n of the size, so products of values below 2n stay below 2n.
   const limbs = Math.ceil((size + 2) / limbBits);
-  if (limbBits < 8 || limbBits > 14 || limbs > (e.maxLimbs.value as number)) {
+  if (!Number.isInteger(limbBits) || limbBits < 8 || limbBits > 14) {
+    throw new RangeError(`createMontgomeryKernel: expected a module with 8- to 14-bit limbs, got ${limbBits}`);
+  }
+  if (limbs > (e.maxLimbs.value as number)) {
     throw new RangeError(`createMontgomeryKernel: expected a module serving ${limbs} limbs, got at most ${e.maxLimbs.value}`);
   }
   const padded = Math.ceil(limbs / 4) * 4;
