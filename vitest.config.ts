@@ -22,7 +22,8 @@ export default defineConfig({
         plugins: [
           cloudflareTest({
             wrangler: { configPath: './wrangler.toml' },
-            miniflare: { bindings: { TEST_MIGRATIONS: migrations } },
+            // A low fan-out threshold, so the tests' mid-size datasets are answered by parts.
+            miniflare: { bindings: { TEST_MIGRATIONS: migrations, FANOUT_PRODUCTS_PER_PART: '6000' } },
           }),
         ],
         test: {

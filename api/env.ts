@@ -2,6 +2,10 @@
 export interface Env {
   readonly DB: D1Database;
   readonly BLOBS: R2Bucket;
+  /** The Worker's service binding to its own AnswerPart entrypoint, for fanned-out answers. */
+  readonly PARTS?: { rowProducts(request: import('./query/answer-part.ts').PartRequest): Promise<import('./query/answer-part.ts').PartResult> };
+  /** Answers estimated above this many products are split over parts (default 2,000,000). */
+  readonly FANOUT_PRODUCTS_PER_PART?: string;
 }
 
 /** Per-request values set by the credential middleware. */

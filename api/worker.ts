@@ -1,4 +1,6 @@
 import { app } from './app.ts';
+
+export { AnswerPart } from './query/answer-part.ts';
 import type { Env } from './env.ts';
 
 export default {

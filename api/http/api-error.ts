@@ -3,7 +3,7 @@
  * one input is at fault, the field that names it. Anything else thrown becomes a bare 500.
  */
 export class ApiError extends Error {
-  readonly status: 400 | 401 | 403 | 404 | 409 | 410 | 413 | 415 | 422 | 429;
+  readonly status: 400 | 401 | 403 | 404 | 409 | 410 | 413 | 415 | 422 | 429 | 503;
   readonly code: string;
   readonly field: string | undefined;
 

@@ -13,10 +13,13 @@ import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
+import { answerByParts, splitColumns } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
 
 /** No real matrix needs a bigger query than this; the exact size is checked per version. */
 const MAX_QUERY_BYTES = 32 * 1024 * 1024;
+/** About 10-15 s of plain BigInt products: above it, one answer is split over parts. */
+const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
 
 export const publicRoutes = new Hono<AppBindings>()
   // Apps in browsers call these routes; Server-Timing must be readable by them.
@@ -50,8 +53,13 @@ export const publicRoutes = new Hono<AppBindings>()
     const { n, values } = decodeQuery(body);
     validateQuery(n, values, columns);
     const matrix = await loadMatrix(c.env, version.matrixKey!);
-    // The plan the build chose for this matrix (recorded in its manifest).
-    const { rows, products: multiplications } = answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), createBigIntEngine(n));
+    const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
+    const parts = splitColumns(columns, manifest.matrix.plan.products, perPart);
+    const { rows, products: multiplications } =
+      parts.length > 1 && c.env.PARTS
+        ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
+        : // The plan the build chose for this matrix (recorded in its manifest).
+          answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), createBigIntEngine(n));
     const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
     const serverMs = performance.now() - started;
     c.executionCtx.waitUntil(

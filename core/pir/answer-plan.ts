@@ -78,14 +78,16 @@ export interface PlanChoice {
  * smaller blocks, then mined). Dense random matrices favour blocks of 6-10 columns; cell
  * matrices, whose regions repeat neighbouring sites, tend to favour mined column sets.
  */
-export function choosePlan(m: BitMatrix): PlanChoice {
+export function choosePlan(m: BitMatrix, options: { mined?: boolean } = {}): PlanChoice {
   const weighed: Array<{ plan: AnswerPlan; products: number }> = [{ plan: { kind: 'plain' }, products: planProducts(m, { kind: 'plain' }) }];
   for (let b = 2; b <= Math.min(MAX_BLOCK_COLUMNS, m.columns); b++) {
     const plan: AnswerPlan = { kind: 'blocked', blockColumns: b };
     weighed.push({ plan, products: planProducts(m, plan) });
   }
-  const mined: AnswerPlan = { kind: 'mined', mined: mineMatrix(m) };
-  weighed.push({ plan: mined, products: planProducts(m, mined) });
+  if (options.mined !== false) {
+    const mined: AnswerPlan = { kind: 'mined', mined: mineMatrix(m) };
+    weighed.push({ plan: mined, products: planProducts(m, mined) });
+  }
   const best = weighed.reduce((a, c) => (c.products < a.products ? c : a));
   return { plan: best.plan, products: best.products, weighed };
 }

@@ -196,3 +196,37 @@ function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Ar
   products += batch.run(engine);
   return products;
 }
+
+/**
+ * The coordinator's step of a fanned-out answer: per row, the product of the parts' unblinded
+ * row products, then the blinding. Products: (parts - 1) per row plus two per row.
+ */
+export function combineParts(parts: ReadonlyArray<readonly bigint[]>, engine: ProductEngine): { rows: bigint[]; products: number } {
+  const R = parts[0]?.length ?? 0;
+  if (parts.length === 0 || parts.some((p) => p.length !== R)) {
+    throw new RangeError(`combineParts: expected parts of equal length, got ${parts.map((p) => p.length).join(', ') || 'none'}`);
+  }
+  engine.ensureSlots(R * parts.length + 2 * R);
+  const started = new Uint8Array(R).fill(1);
+  const rows: number[][] = [];
+  for (let r = 0; r < R; r++) {
+    const slots: number[] = [];
+    parts.forEach((part, i) => {
+      const slot = R * i + r;
+      if (i > 0) engine.set(slot, part[r]!);
+      slots.push(i === 0 ? r : slot);
+    });
+    engine.set(r, parts[0]![r]!);
+    rows.push(slots);
+  }
+  let products = 0;
+  const batch = new Batch();
+  for (let i = 1; i < parts.length; i++) {
+    for (let r = 0; r < R; r++) batch.push(r, r, rows[r]![i]!);
+    products += batch.run(engine);
+  }
+  products += blind(engine, R, R * parts.length, started);
+  const out = new Array<bigint>(R);
+  for (let r = 0; r < R; r++) out[r] = engine.get(r);
+  return { rows: out, products };
+}

@@ -7,6 +7,7 @@ declare global {
       DB: D1Database;
       BLOBS: R2Bucket;
       TEST_MIGRATIONS: D1Migration[];
+      FANOUT_PRODUCTS_PER_PART: string;
     }
     // Types `exports` of cloudflare:workers: the Worker's entry module, reached in-process.
     interface GlobalProps {

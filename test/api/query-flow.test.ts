@@ -58,6 +58,8 @@ describe('upload, build, publish, then a private query through the SDK', () => {
     expect(after).toBe(before!.n + 2);
     // Products metered per answer are the ones the build's plan promises (manifest.matrix.plan).
     const { plan } = (await client.manifest('ri-zips')).matrix;
+    // This dataset stays under the tests' fan-out threshold: one invocation answers it.
+    expect(plan.products).toBeLessThanOrEqual(Number(env.FANOUT_PRODUCTS_PER_PART));
     const usage = await env.DB.prepare('SELECT SUM(queries) AS q, SUM(multiplications) AS m FROM usage_daily WHERE credential_id = ?')
       .bind(tenant.apiKeyId)
       .first<{ q: number; m: number }>();
