@@ -4,10 +4,10 @@ import { sliceColumns } from '../../core/matrix/slice-columns.ts';
 import type { AnswerPlan } from '../../core/pir/answer-plan.ts';
 import { partPlan } from '../../core/pir/fan-out.ts';
 import { unblindedRowProducts } from '../../core/pir/planned-answer.ts';
-import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { decodeQuery, encodeAnswer } from '../../core/pir/wire.ts';
 import type { Env } from '../env.ts';
 import { loadMatrix } from './version-cache.ts';
+import { productEngine } from './product-engine.ts';
 
 export interface PartRequest {
   /** Storage key of the matrix (content-addressed, so a part can never mix versions). */
@@ -43,7 +43,7 @@ export class AnswerPart extends WorkerEntrypoint<Env> {
       slices.set(key, entry);
     }
     const { n, values } = decodeQuery(request.query);
-    const { rows, products } = unblindedRowProducts(entry.slice, values, entry.plan, createBigIntEngine(n));
+    const { rows, products } = unblindedRowProducts(entry.slice, values, entry.plan, productEngine(n));
     return { rows: encodeAnswer((n.toString(2).length + 7) >> 3, rows), products };
   }
 }

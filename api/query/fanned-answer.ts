@@ -1,10 +1,10 @@
 import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
 import { splitColumns, type ColumnPart } from '../../core/pir/fan-out.ts';
 import { combineParts } from '../../core/pir/planned-answer.ts';
-import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { decodeAnswer, encodeQuery } from '../../core/pir/wire.ts';
 import { ApiError } from '../http/api-error.ts';
 import type { PartRequest, PartResult } from './answer-part.ts';
+import { productEngine } from './product-engine.ts';
 
 /** Runs one part; in the Worker, an RPC call through the service binding to itself. */
 export type PartRunner = (request: PartRequest) => Promise<PartResult>;
@@ -39,7 +39,7 @@ export async function answerByParts(
   if (partRows.length !== parts.length || partRows.some((rows) => rows.length !== matrix.rows)) {
     throw new ApiError(503, 'part_failed', 'a part of the answer came back with the wrong number of rows; nothing was answered', 'body');
   }
-  const combined = combineParts(partRows, createBigIntEngine(n));
+  const combined = combineParts(partRows, productEngine(n));
   const products = results.reduce((sum, r) => sum + r.products, combined.products);
   return { rows: combined.rows, products, parts: parts.length };
 }

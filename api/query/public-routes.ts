@@ -2,7 +2,6 @@ import { Hono } from 'hono';
 import { cors } from 'hono/cors';
 import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
 import { answerWithPlan } from '../../core/pir/planned-answer.ts';
-import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { validateQuery } from '../../core/pir/validate.ts';
 import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
 import { requireCredential } from '../auth/require-credential.ts';
@@ -15,6 +14,7 @@ import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRo
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
 import { answerByParts, splitColumns } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
+import { productEngine } from './product-engine.ts';
 
 /** No real matrix needs a bigger query than this; the exact size is checked per version. */
 const MAX_QUERY_BYTES = 32 * 1024 * 1024;
@@ -59,7 +59,7 @@ export const publicRoutes = new Hono<AppBindings>()
       parts.length > 1 && c.env.PARTS
         ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
         : // The plan the build chose for this matrix (recorded in its manifest).
-          answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), createBigIntEngine(n));
+          answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), productEngine(n));
     const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
     const serverMs = performance.now() - started;
     c.executionCtx.waitUntil(

@@ -17,8 +17,9 @@ export interface MontgomeryKernel {
   /** Sets slot s to the Montgomery form of 1. */
   setOne(slot: number): void;
   copy(dst: number, src: number): void;
-  /** out[i] = left[i] * right[i] (Montgomery product) for i < count; out slots must not alias
-   *  left/right slots of the same call. Processes four products at a time in SIMD lanes. */
+  /** out[i] = left[i] * right[i] (Montgomery product) for i < count. Out slots are distinct, and
+   *  an out slot may be read only by its own product (out[i] = left[i] updates in place: each
+   *  group of four gathers its operands before it writes). Four products at a time in SIMD lanes. */
   multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
 }
 
@@ -100,6 +101,7 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   let words = new Uint32Array(e.memory.buffer);
   let slots = Math.floor((words.length - slotBase) / padded);
   let stamps = new Uint32Array(slots);
+  let owners = new Uint32Array(slots);
   let stamp = 0;
 
   // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^limbBits and n_0.
@@ -132,6 +134,7 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
       const grown = new Uint32Array(slots);
       grown.set(stamps);
       stamps = grown;
+      owners = new Uint32Array(slots);
     },
     set(slot: number, x: bigint) {
       checkSlotIndex('set', slot, slots);
@@ -170,11 +173,15 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
         if (o >= slots || left[i]! >= slots || right[i]! >= slots) {
           throw new RangeError(`multiplyMany: expected slot indices below ${slots}, got out ${o}, left ${left[i]}, right ${right[i]} at ${i}`);
         }
+        if (stamps[o] === stamp) throw new RangeError(`multiplyMany: expected distinct out slots, got slot ${o} twice (again at ${i})`);
         stamps[o] = stamp;
+        owners[o] = i;
       }
       for (let i = 0; i < count; i++) {
-        if (stamps[left[i]!] === stamp || stamps[right[i]!] === stamp) {
-          throw new RangeError(`multiplyMany: expected out slots distinct from left and right slots, got slot ${stamps[left[i]!] === stamp ? left[i] : right[i]} in both at ${i}`);
+        for (const x of [left[i]!, right[i]!]) {
+          if (stamps[x] === stamp && owners[x] !== i) {
+            throw new RangeError(`multiplyMany: expected no product to read another's out slot, got slot ${x} read at ${i} and written at ${owners[x]}`);
+          }
         }
       }
       for (let start = 0; start < count; start += capacity) {

@@ -132,6 +132,30 @@ for (const bits of [2048, 3072] as const) {
   });
 }
 
+describe('Montgomery kernel: products in place', () => {
+  it('out[i] = left[i] updates in place, as the answer loop uses it (checked against BigInt)', () => {
+    fc.assert(
+      fc.property(oddModulus(2048), fc.integer({ min: 1, max: 11 }), fc.nat(), (n, count, seed) => {
+        const k = createMontgomeryKernel(module, n);
+        k.ensureSlots(2 * count);
+        const xs: bigint[] = [];
+        const ys: bigint[] = [];
+        for (let i = 0; i < count; i++) {
+          xs.push(((n * BigInt(seed + i + 1)) / 13n) % n);
+          ys.push((n * BigInt(seed + 2 * i + 3)) / 17n % n);
+          k.set(i, xs[i]!);
+          k.set(count + i, ys[i]!);
+        }
+        const acc = Uint32Array.from({ length: count }, (_, i) => i);
+        const other = Uint32Array.from({ length: count }, (_, i) => count + i);
+        for (let round = 0; round < 3; round++) k.multiplyMany(acc, acc, other, count);
+        for (let i = 0; i < count; i++) expect(k.get(i)).toBe((xs[i]! * ys[i]! ** 3n) % n);
+      }),
+      { numRuns: 20 },
+    );
+  });
+});
+
 describe('Montgomery kernel: sizes, growth and argument errors', () => {
   const n = (1n << 2048n) - 1n;
 
@@ -193,7 +217,10 @@ describe('Montgomery kernel: sizes, growth and argument errors', () => {
     expect(() => k.multiplyMany(Uint32Array.of(1), one, one, 2)).toThrow(/multiplyMany: expected integer count in \[0, 1\], got 2/);
     expect(() => k.multiplyMany(Uint32Array.of(s), one, one, 1)).toThrow(RangeError);
     expect(() => k.multiplyMany(Uint32Array.of(2, 3), Uint32Array.of(1, 2), Uint32Array.of(1, 1), 2)).toThrow(
-      /multiplyMany: expected out slots distinct from left and right slots, got slot 2 in both at 1/,
+      /multiplyMany: expected no product to read another's out slot, got slot 2 read at 1 and written at 0/,
+    );
+    expect(() => k.multiplyMany(Uint32Array.of(4, 4), Uint32Array.of(1, 2), Uint32Array.of(1, 1), 2)).toThrow(
+      /multiplyMany: expected distinct out slots, got slot 4 twice \(again at 1\)/,
     );
   });
 });

@@ -9,6 +9,8 @@ import { generateKeyPair, type PirKeyPair } from '../../../core/pir/keys.ts';
 import { answerWithPlan, unblindedRowProducts } from '../../../core/pir/planned-answer.ts';
 import { mineMatrix } from '../../../core/pir/mined-plan.ts';
 import { createBigIntEngine } from '../../../core/pir/product-engine.ts';
+import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
+import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
 
 function randomMatrix(rows: number, columns: number, density: number, seed: number): BitMatrix {
@@ -37,8 +39,23 @@ const plansFor = (m: BitMatrix): AnswerPlan[] => [...FIXED_PLANS, { kind: 'mined
 
 describe('answer plans', () => {
   let key: PirKeyPair;
+  let kernelModule: WebAssembly.Module;
   beforeAll(async () => {
     key = await generateKeyPair({ modulusBits: 2048 });
+    kernelModule = await loadKernelModuleNode(2048);
+  });
+
+  it('every plan on the SIMD Montgomery kernel gives jsbn\'s row products', () => {
+    for (const [rows, cols, density] of [[17, 29, 0.45], [40, 9, 0.9], [5, 70, 0.05]] as const) {
+      const m = randomMatrix(rows, cols, density, rows * cols);
+      const values = Array.from({ length: cols }, () => randomBelow(key.n - 1n) + 1n);
+      const reference = jsbnRowProducts(m, values, key.n);
+      for (const plan of plansFor(m)) {
+        const { rows: got, products } = unblindedRowProducts(m, values, plan, createMontgomeryKernel(kernelModule, key.n));
+        expect(got).toEqual(reference);
+        expect(products + 2 * rows).toBe(planProducts(m, plan));
+      }
+    }
   });
 
   it('every plan gives jsbn\'s row products and does exactly the products planProducts counts', () => {
