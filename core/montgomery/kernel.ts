@@ -17,6 +17,10 @@ export interface MontgomeryKernel {
   /** Sets slot s to the Montgomery form of 1. */
   setOne(slot: number): void;
   copy(dst: number, src: number): void;
+  /** Puts a uniform random non-zero residue in slot s (drawn in Montgomery form, which is uniform too). */
+  setRandomNonZero(slot: number): void;
+  /** Reads slots [first, first + count) as residues in [0, n), converted in batches by the kernel. */
+  getMany(first: number, count: number): bigint[];
   /** out[i] = left[i] * right[i] (Montgomery product) for i < count. Out slots are distinct, and
    *  an out slot may be read only by its own product (out[i] = left[i] updates in place: each
    *  group of four gathers its operands before it writes). Four products at a time in SIMD lanes. */
@@ -103,6 +107,15 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   let stamps = new Uint32Array(slots);
   let owners = new Uint32Array(slots);
   let stamp = 0;
+  // Highest slot count asked for; getMany keeps its working slots above it.
+  let reserved = 0;
+  const bitLength = n.toString(2).length;
+  // Per-limb masks keeping random limbs within n's bit length (higher limbs zero).
+  const limbMasks = Uint32Array.from({ length: limbs }, (_, j) => {
+    const bitsHere = Math.min(limbBits, Math.max(0, bitLength - j * limbBits));
+    return 2 ** bitsHere - 1;
+  });
+  const randomLimbs = new Uint16Array(limbs);
 
   // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^limbBits and n_0.
   const nLimbs = toLimbs(n, limbs, limbBits);
@@ -119,22 +132,73 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
     words.fill(0, at + limbs, at + padded);
   };
 
-  return {
+  const grow = (count: number) => {
+    if (count <= slots) return;
+    const neededBytes = (slotBase + count * padded) * 4;
+    e.memory.grow(Math.ceil((neededBytes - e.memory.buffer.byteLength) / 65536));
+    words = new Uint32Array(e.memory.buffer);
+    slots = Math.floor((words.length - slotBase) / padded);
+    const grown = new Uint32Array(slots);
+    grown.set(stamps);
+    stamps = grown;
+    owners = new Uint32Array(slots);
+  };
+
+  const kernel: MontgomeryKernel = {
     modulus: n,
     get slots() {
       return slots;
     },
     ensureSlots(count: number) {
       if (!Number.isSafeInteger(count) || count < 0) throw new RangeError(`ensureSlots: expected integer count >= 0, got ${count}`);
-      if (count <= slots) return;
-      const neededBytes = (slotBase + count * padded) * 4;
-      e.memory.grow(Math.ceil((neededBytes - e.memory.buffer.byteLength) / 65536));
-      words = new Uint32Array(e.memory.buffer);
-      slots = Math.floor((words.length - slotBase) / padded);
-      const grown = new Uint32Array(slots);
-      grown.set(stamps);
-      stamps = grown;
-      owners = new Uint32Array(slots);
+      reserved = Math.max(reserved, count);
+      grow(count);
+    },
+    setRandomNonZero(slot: number) {
+      checkSlotIndex('setRandomNonZero', slot, slots);
+      const at = slotBase + slot * padded;
+      for (;;) {
+        crypto.getRandomValues(randomLimbs);
+        let below = false;
+        let zero = true;
+        let decided = false;
+        for (let j = limbs - 1; j >= 0; j--) {
+          const limb = randomLimbs[j]! & limbMasks[j]!;
+          words[at + j] = limb;
+          if (limb !== 0) zero = false;
+          if (!decided && limb !== nLimbs[j]) {
+            below = limb < nLimbs[j]!;
+            decided = true;
+          }
+        }
+        if (below && !zero) break; // rejection keeps the draw uniform on [1, n)
+      }
+      words.fill(0, at + limbs, at + padded);
+    },
+    getMany(first: number, count: number) {
+      if (!Number.isSafeInteger(first) || !Number.isSafeInteger(count) || first < 0 || count < 0 || first + count > slots) {
+        throw new RangeError(`getMany: expected a slot range within [0, ${slots}), got ${first} + ${count}`);
+      }
+      // A Montgomery product with a plain 1 leaves the Montgomery domain: (x R)(1) / R = x.
+      const chunk = 1024;
+      const one = Math.max(reserved, first + count);
+      grow(one + 1 + chunk);
+      writeValue(one, 1n);
+      const out: bigint[] = [];
+      const target = Uint32Array.from({ length: chunk }, (_, i) => one + 1 + i);
+      const ones = new Uint32Array(chunk).fill(one);
+      const source = new Uint32Array(chunk);
+      for (let start = 0; start < count; start += chunk) {
+        const size = Math.min(chunk, count - start);
+        for (let i = 0; i < size; i++) source[i] = first + start + i;
+        kernel.multiplyMany(target, source, ones, size);
+        for (let i = 0; i < size; i++) {
+          const at = slotBase + (one + 1 + i) * padded;
+          const value = fromLimbs(words.subarray(at, at + limbs), limbBits);
+          out.push(value >= n ? value - n : value);
+        }
+      }
+      return out;
     },
     set(slot: number, x: bigint) {
       checkSlotIndex('set', slot, slots);
@@ -200,43 +264,44 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
       }
     },
   };
+  return kernel;
 }
 
-/** Little-endian limbs of `bits` bits of 0 <= x < 2^(bits * count), from its hex digits. */
+/** Little-endian limbs of `bits` bits of 0 <= x < 2^(bits * count), from its hex digits read six at a time. */
 function toLimbs(x: bigint, count: number, bits: number): Uint32Array {
   const hex = x.toString(16);
   const out = new Uint32Array(count);
-  const mask = 2 ** bits - 1;
-  let buffer = 0;
-  let held = 0;
+  const radix = 2 ** bits;
+  let buffer = 0; // below 2^(bits + 24): exact in a double
+  let scale = 1;
   let j = 0;
-  for (let d = hex.length - 1; d >= 0; d--) {
-    buffer |= parseInt(hex[d]!, 16) << held;
-    held += 4;
-    if (held >= bits) {
-      out[j++] = buffer & mask;
-      buffer >>>= bits;
-      held -= bits;
+  for (let end = hex.length; end > 0 && j < count; end -= 6) {
+    buffer += parseInt(hex.slice(Math.max(0, end - 6), end), 16) * scale;
+    scale *= 2 ** 24;
+    while (scale >= radix && j < count) {
+      out[j++] = buffer % radix;
+      buffer = Math.floor(buffer / radix);
+      scale /= radix;
     }
   }
-  if (held > 0 && j < count) out[j] = buffer;
+  if (j < count) out[j] = buffer;
   return out;
 }
 
-/** The value of little-endian limbs of `bits` bits each (each below 2^bits). */
+/** The value of little-endian limbs of `bits` bits each (each below 2^bits), six hex digits at a time. */
 function fromLimbs(limbs: Uint32Array, bits: number): bigint {
-  const digits: string[] = [];
+  const chunks: string[] = [];
   let buffer = 0;
   let held = 0;
   for (const limb of limbs) {
-    buffer |= limb << held;
+    buffer += limb * 2 ** held;
     held += bits;
-    while (held >= 4) {
-      digits.push((buffer & 15).toString(16));
-      buffer >>>= 4;
-      held -= 4;
+    while (held >= 24) {
+      chunks.push((buffer % 2 ** 24).toString(16).padStart(6, '0'));
+      buffer = Math.floor(buffer / 2 ** 24);
+      held -= 24;
     }
   }
-  if (held > 0) digits.push(buffer.toString(16));
-  return BigInt('0x' + (digits.reverse().join('') || '0'));
+  chunks.push(buffer.toString(16));
+  return BigInt('0x' + chunks.reverse().join(''));
 }

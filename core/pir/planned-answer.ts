@@ -1,4 +1,3 @@
-import { randomBelow } from '../bigint/random.ts';
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
 import { rowBlockBits, type AnswerPlan } from './answer-plan.ts';
 import type { MinedPlan } from './mined-plan.ts';
@@ -46,8 +45,8 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
         ? blockedProducts(matrix, values, plan.blockColumns, engine, started)
         : minedRowProducts(plan.mined, values, engine, started);
   if (blinded) products += blind(engine, R, R + working, started);
-  const rows = new Array<bigint>(R);
-  for (let r = 0; r < R; r++) rows[r] = started[r] || blinded ? engine.get(r) : 1n;
+  const rows = engine.getMany(0, R);
+  if (!blinded) for (let r = 0; r < R; r++) if (!started[r]) rows[r] = 1n;
   return { rows, products };
 }
 
@@ -180,15 +179,12 @@ function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, eng
 
 /** z_r = acc_r * s_r^2 with a fresh uniform non-zero s_r per row: two products per row. */
 function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Array): number {
-  const n = engine.modulus;
   const squareBase = sBase + R;
   const batch = new Batch();
   for (let r = 0; r < R; r++) {
     if (!started[r]) engine.setOne(r);
-    let s = 0n;
-    // Zero is the only draw to refuse; a draw sharing a factor with n has probability ~2^-1023.
-    while (s === 0n) s = randomBelow(n);
-    engine.set(sBase + r, s);
+    // A non-unit s (sharing a factor with n) turns up with probability about 2^-1023.
+    engine.setRandomNonZero(sBase + r);
     batch.push(squareBase + r, sBase + r, sBase + r);
   }
   let products = batch.run(engine);
@@ -226,7 +222,5 @@ export function combineParts(parts: ReadonlyArray<readonly bigint[]>, engine: Pr
     products += batch.run(engine);
   }
   products += blind(engine, R, R * parts.length, started);
-  const out = new Array<bigint>(R);
-  for (let r = 0; r < R; r++) out[r] = engine.get(r);
-  return { rows: out, products };
+  return { rows: engine.getMany(0, R), products };
 }

@@ -1,3 +1,5 @@
+import { randomBelow } from '../bigint/random.ts';
+
 /**
  * Where the answer's modular products happen. Values live in numbered slots (in whatever form
  * the engine likes, e.g. Montgomery form); many independent products are asked for at once so
@@ -14,6 +16,10 @@ export interface ProductEngine {
   get(slot: number): bigint;
   setOne(slot: number): void;
   copy(dst: number, src: number): void;
+  /** Puts a uniform random non-zero residue in slot s (the blinding factors). */
+  setRandomNonZero(slot: number): void;
+  /** Reads slots [first, first + count) as residues in [0, n). */
+  getMany(first: number, count: number): bigint[];
   /** out[i] = left[i] * right[i] mod n for i < count; out must not alias left/right in one call. */
   multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
 }
@@ -52,6 +58,16 @@ export function createBigIntEngine(n: bigint): ProductEngine {
       check('copy', dst);
       check('copy', src);
       store[dst] = store[src]!;
+    },
+    setRandomNonZero(slot) {
+      check('setRandomNonZero', slot);
+      let s = 0n;
+      while (s === 0n) s = randomBelow(n);
+      store[slot] = s;
+    },
+    getMany(first, count) {
+      if (count > 0) check('getMany', first + count - 1);
+      return store.slice(first, first + count);
     },
     multiplyMany(out, left, right, count) {
       for (let i = 0; i < count; i++) store[out[i]!] = (store[left[i]!]! * store[right[i]!]!) % n;

@@ -156,6 +156,39 @@ describe('Montgomery kernel: products in place', () => {
   });
 });
 
+describe('Montgomery kernel: random residues and batch reads', () => {
+  it('getMany reads what get reads (BigInt reference), across more than one batch of 1,024', () => {
+    fc.assert(
+      fc.property(oddModulus(2048), (n) => {
+        const k = createMontgomeryKernel(module, n);
+        k.ensureSlots(1100);
+        const xs = Array.from({ length: 1100 }, (_, i) => (n / 1101n) * BigInt(i) + BigInt(i % 7));
+        xs.forEach((x, i) => k.set(i, x));
+        expect(k.getMany(0, 1100)).toEqual(xs);
+        expect(k.getMany(37, 3)).toEqual([k.get(37), k.get(38), k.get(39)]);
+      }),
+      { numRuns: 3 },
+    );
+  });
+
+  it('setRandomNonZero gives residues in [1, n) that multiply like any other value', () => {
+    const n = (1n << 2047n) + 12345n * 2n + 1n;
+    const k = createMontgomeryKernel(module, n);
+    k.ensureSlots(300);
+    for (let i = 0; i < 100; i++) k.setRandomNonZero(i);
+    const drawn = k.getMany(0, 100);
+    expect(drawn.every((x) => x >= 1n && x < n)).toBe(true);
+    expect(new Set(drawn).size).toBe(100);
+    // Uniform on [1, n): about half the draws fall below n / 2 (a loose check, 100 draws).
+    const low = drawn.filter((x) => x < n / 2n).length;
+    expect(low).toBeGreaterThan(25);
+    expect(low).toBeLessThan(75);
+    const idx = (b: number) => Uint32Array.from({ length: 100 }, (_, i) => b + i);
+    k.multiplyMany(idx(100), idx(0), idx(0), 100);
+    expect(k.getMany(100, 100)).toEqual(drawn.map((x) => (x * x) % n));
+  });
+});
+
 describe('Montgomery kernel: sizes, growth and argument errors', () => {
   const n = (1n << 2048n) - 1n;
 
