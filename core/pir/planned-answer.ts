@@ -36,7 +36,7 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   }
   const R = matrix.rows;
   const started = new Uint8Array(R);
-  const working = plan.kind === 'plain' ? matrix.columns : plan.kind === 'blocked' ? 2 ** plan.blockColumns : matrix.columns + plan.mined.rules.length;
+  const working = plan.kind === 'plain' ? matrix.columns : plan.kind === 'blocked' ? TABLES_AT_ONCE * 2 ** plan.blockColumns : matrix.columns + plan.mined.rules.length;
   engine.ensureSlots(R + working + 2 * R);
   let products =
     plan.kind === 'plain'
@@ -151,31 +151,45 @@ function minedRowProducts(mined: MinedPlan, values: readonly bigint[], engine: P
 /** Blocked: per block of b columns, a table of subset products, then one product per row. */
 function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, engine: ProductEngine, started: Uint8Array): number {
   const R = m.rows;
-  const tableBase = R;
+  const size = 2 ** b;
   const batch = new Batch();
   let products = 0;
-  for (let start = 0; start < m.columns; start += b) {
-    const width = Math.min(b, m.columns - start);
-    for (let k = 0; k < width; k++) engine.set(tableBase + (1 << k), values[start + k]!);
+  // TABLES_AT_ONCE blocks share each table level's batch, so small levels still fill the lanes.
+  const span = TABLES_AT_ONCE * b;
+  for (let groupStart = 0; groupStart < m.columns; groupStart += span) {
+    const blocks: Array<{ start: number; width: number; base: number }> = [];
+    for (let start = groupStart; start < Math.min(m.columns, groupStart + span); start += b) {
+      blocks.push({ start, width: Math.min(b, m.columns - start), base: R + blocks.length * size });
+    }
+    for (const { start, width, base } of blocks) for (let k = 0; k < width; k++) engine.set(base + (1 << k), values[start + k]!);
     // Level k: every subset whose highest member is k, from the subset without it (independent).
-    for (let k = 1; k < width; k++) {
+    for (let k = 1; k < b; k++) {
       const high = 1 << k;
-      for (let s = high + 1; s < 2 * high; s++) batch.push(tableBase + s, tableBase + (s - high), tableBase + high);
+      for (const { width, base } of blocks) {
+        if (k >= width) continue;
+        for (let s = high + 1; s < 2 * high; s++) batch.push(base + s, base + (s - high), base + high);
+      }
       products += batch.run(engine);
     }
-    for (let r = 0; r < R; r++) {
-      const bits = rowBlockBits(m, r, start, width);
-      if (bits === 0) continue;
-      if (started[r]) batch.push(r, r, tableBase + bits);
-      else {
-        engine.copy(r, tableBase + bits);
-        started[r] = 1;
+    // Rows: one batch per block, as a row's accumulator may take part once per batch.
+    for (const { start, width, base } of blocks) {
+      for (let r = 0; r < R; r++) {
+        const bits = rowBlockBits(m, r, start, width);
+        if (bits === 0) continue;
+        if (started[r]) batch.push(r, r, base + bits);
+        else {
+          engine.copy(r, base + bits);
+          started[r] = 1;
+        }
       }
+      products += batch.run(engine);
     }
-    products += batch.run(engine);
   }
   return products;
 }
+
+/** Blocks whose tables are built together (memory: this many tables of 2^b slots). */
+const TABLES_AT_ONCE = 8;
 
 /** z_r = acc_r * s_r^2 with a fresh uniform non-zero s_r per row: two products per row. */
 function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Array): number {
