@@ -4,28 +4,15 @@
 // Workers refuse to compile bytes at run time); Node uses scripts/montgomery/load-kernel-node.ts.
 // One module serves 2048- and 3072-bit moduli alike.
 import { modInverse } from '../bigint/modular.ts';
+import type { ProductEngine } from '../pir/product-engine.ts';
 
-export interface MontgomeryKernel {
-  readonly modulus: bigint;
-  /** Number of operand slots currently allocated (grows with ensureSlots). */
-  readonly slots: number;
-  ensureSlots(count: number): void;
-  /** Stores x (any bigint in [0, n)) in slot s, in Montgomery form. */
-  set(slot: number, x: bigint): void;
-  /** Reads slot s back as an ordinary residue in [0, n). */
-  get(slot: number): bigint;
-  /** Sets slot s to the Montgomery form of 1. */
-  setOne(slot: number): void;
-  copy(dst: number, src: number): void;
-  /** Puts a uniform random non-zero residue in slot s (drawn in Montgomery form, which is uniform too). */
-  setRandomNonZero(slot: number): void;
-  /** Reads slots [first, first + count) as residues in [0, n), converted in batches by the kernel. */
-  getMany(first: number, count: number): bigint[];
-  /** out[i] = left[i] * right[i] (Montgomery product) for i < count. Out slots are distinct, and
-   *  an out slot may be read only by its own product (out[i] = left[i] updates in place: each
-   *  group of four gathers its operands before it writes). Four products at a time in SIMD lanes. */
-  multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
-}
+/**
+ * A ProductEngine (core/pir/product-engine.ts) whose slots hold values in Montgomery form below
+ * 2n; set and get convert, multiplyMany runs four products per SIMD pass, setRandomNonZero draws
+ * the Montgomery form directly (a uniform form is a uniform value), getMany converts back in
+ * batches with a kernel product by a plain 1.
+ */
+export type MontgomeryKernel = ProductEngine;
 
 
 /**

@@ -1,5 +1,10 @@
 export { answerMultiplications, answerQuery } from './answer.ts';
+export { choosePlan, planProducts, type AnswerPlan, type PlanChoice } from './answer-plan.ts';
 export { decodeRows } from './decode.ts';
+export { splitColumns, type ColumnPart } from './fan-out.ts';
+export { mineMatrix, minedProducts, type MinedPlan } from './mined-plan.ts';
+export { answerWithPlan, combineParts, unblindedRowProducts } from './planned-answer.ts';
+export { createBigIntEngine, type ProductEngine } from './product-engine.ts';
 export {
   assembleKeyPair,
   findNonResidue,

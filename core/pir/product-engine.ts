@@ -20,7 +20,10 @@ export interface ProductEngine {
   setRandomNonZero(slot: number): void;
   /** Reads slots [first, first + count) as residues in [0, n). */
   getMany(first: number, count: number): bigint[];
-  /** out[i] = left[i] * right[i] mod n for i < count; out must not alias left/right in one call. */
+  /**
+   * out[i] = left[i] * right[i] mod n for i < count. Out slots are distinct, and an out slot may
+   * be read only by its own product (out[i] = left[i] updates in place).
+   */
   multiplyMany(out: Uint32Array, left: Uint32Array, right: Uint32Array, count: number): void;
 }
 

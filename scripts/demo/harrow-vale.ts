@@ -1,3 +1,5 @@
+import { seededRandom as prng } from './seeded-random.ts';
+
 /**
  * Demo data only: an invented region, "Harrow Vale", with invented towns and invented care
  * sites clustered around them. Coordinates are arbitrary points chosen for the demo; no real
@@ -22,17 +24,6 @@ const TOWNS: ReadonlyArray<readonly [name: string, lat: number, lon: number, wei
 const KINDS = ['Community Clinic', 'Pharmacy', 'Night Shelter', 'Counselling Centre', 'Testing Point', 'Family Support Hub'] as const;
 const HOURS = ['Mon-Fri 08:00-18:00', 'Daily 09:00-21:00', 'Open 24 hours', 'Mon-Sat 10:00-16:00'] as const;
 
-/** mulberry32: a small seeded PRNG, plenty for demo data. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 function csvField(value: string): string {
   return /[",\r\n]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;

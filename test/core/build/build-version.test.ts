@@ -9,6 +9,7 @@ import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../../..
 import type { Site, SiteTable } from '../../../core/geo/site-table.ts';
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
 import { decodeMatrixBlob } from '../../../core/matrix/matrix-blob.ts';
+import { seededRandom as prng } from '../../../scripts/demo/seeded-random.ts';
 
 function tableOf(points: readonly (readonly [number, number])[]): SiteTable {
   const sites: Site[] = points.map(([lat, lon], i) => ({ id: `s${i}`, name: null, lat, lon, details: {} }));
@@ -37,16 +38,6 @@ function bruteNearest(table: SiteTable, lat: number, lon: number): number {
 
 const wrapLon = (lon: number) => ((((lon + 180) % 360) + 360) % 360) - 180;
 
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /**
  * Demo data (invented): 2,000 mobile-clinic stops around 12 made-up towns, Gaussian spread of

