@@ -228,11 +228,13 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
         stamps[o] = stamp;
         owners[o] = i;
       }
+      // Plain reads of both operands (no per-product array): this loop runs once per product.
       for (let i = 0; i < count; i++) {
-        for (const x of [left[i]!, right[i]!]) {
-          if (stamps[x] === stamp && owners[x] !== i) {
-            throw new RangeError(`multiplyMany: expected no product to read another's out slot, got slot ${x} read at ${i} and written at ${owners[x]}`);
-          }
+        const l = left[i]!;
+        const r = right[i]!;
+        if ((stamps[l] === stamp && owners[l] !== i) || (stamps[r] === stamp && owners[r] !== i)) {
+          const x = stamps[l] === stamp && owners[l] !== i ? l : r;
+          throw new RangeError(`multiplyMany: expected no product to read another's out slot, got slot ${x} read at ${i} and written at ${owners[x]}`);
         }
       }
       for (let start = 0; start < count; start += capacity) {

@@ -252,6 +252,12 @@ describe('Montgomery kernel: sizes, growth and argument errors', () => {
     expect(() => k.multiplyMany(Uint32Array.of(2, 3), Uint32Array.of(1, 2), Uint32Array.of(1, 1), 2)).toThrow(
       /multiplyMany: expected no product to read another's out slot, got slot 2 read at 1 and written at 0/,
     );
+    expect(() => k.multiplyMany(Uint32Array.of(2, 3), Uint32Array.of(1, 1), Uint32Array.of(1, 2), 2)).toThrow(
+      /multiplyMany: expected no product to read another's out slot, got slot 2 read at 1 and written at 0/,
+    );
+    expect(() => k.multiplyMany(Uint32Array.of(1, 2), Uint32Array.of(3, 4), Uint32Array.of(5, 1), 2)).toThrow(
+      /multiplyMany: expected no product to read another's out slot, got slot 1 read at 1 and written at 0/,
+    );
     expect(() => k.multiplyMany(Uint32Array.of(4, 4), Uint32Array.of(1, 2), Uint32Array.of(1, 1), 2)).toThrow(
       /multiplyMany: expected distinct out slots, got slot 4 twice \(again at 1\)/,
     );
