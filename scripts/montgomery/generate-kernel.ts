@@ -129,31 +129,42 @@ function columnSum(label: string): string {
         (br $${label}_chunk)))`;
 }
 
-/** Finishes low column k + c: adds the terms i = k..k+c, picks q_{k+c} and shifts out LIMB_BITS zero bits. */
+const MASKS = `(v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})`;
+/** The carry between column groups: loaded before a group's tails, stored after them. */
+const CARRY_IN = `        (local.set $carry (v128.load (i32.const ${LAYOUT.hi + 4 * V})))`;
+const CARRY_OUT = `        (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (local.get $carry))`;
+
+/**
+ * Finishes low column k + c: adds the terms i = k..k+c, picks q_{k+c} and shifts out LIMB_BITS
+ * zero bits. Within a group's four tails the carry ($carry) and the new X vectors ($x0..$x3) stay
+ * in locals, so the chain from one column's q to the next runs through registers; between groups
+ * the carry waits in memory (a local live across the column sums would crowd their registers).
+ */
 function lowTail(c: number): string {
   const L = LAYOUT;
-  const terms = [];
-  for (let d = 0; d <= c; d++) {
-    terms.push(`
-          (local.set $sum (i32x4.add (local.get $sum) (i32x4.dot_i16x8_s (v128.load offset=${L.x + d * V} (local.get $j)) (v128.load (i32.const ${L.y + (c - d) * V})))))`);
-  }
+  // Terms known before q_{k+c-1} first; the carry and the newest X vector (holding q_{k+c-1}) last,
+  // so the chain from one q to the next is as short as possible.
+  const dot = (d: number) => `(i32x4.dot_i16x8_s (local.get $x${d}) (v128.load (i32.const ${L.y + (c - d) * V})))`;
+  let early = `(i32x4.add (local.get $acc${c}) ${dot(c)})`;
+  for (let d = 0; d < c - 1; d++) early = `(i32x4.add ${early} ${dot(d)})`;
+  const late = c > 0 ? `(i32x4.add (local.get $carry) ${dot(c - 1)})` : '(local.get $carry)';
   return `
         (if (i32.lt_u (i32.add (local.get $k) (i32.const ${c})) (local.get $limbs)) (then
-          (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))${terms.join('')}
-          (local.set $xi (v128.and (i32x4.mul (local.get $sum) (v128.load (i32.const ${LAYOUT.negInverse}))) (v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})))
-          (v128.store offset=${L.x + c * V} (local.get $j)
-            (v128.or (v128.load offset=${L.x + c * V} (local.get $j)) (i32x4.shl (local.get $xi) (i32.const 16))))
-          (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $xi) (v128.load (i32.const ${LAYOUT.lowLimb})))))
-          (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))))`;
+          (local.set $sum (i32x4.add ${early} ${late}))
+          (local.set $xi (v128.and (i32x4.mul (local.get $sum) (v128.load (i32.const ${L.negInverse}))) ${MASKS}))
+          (local.set $x${c} (v128.or (local.get $x${c}) (i32x4.shl (local.get $xi) (i32.const 16))))
+          (v128.store offset=${L.x + c * V} (local.get $j) (local.get $x${c}))
+          (local.set $sum (i32x4.add (local.get $sum) (i32x4.mul (local.get $xi) (v128.load (i32.const ${L.lowLimb})))))
+          (local.set $carry (i32x4.add (v128.load (i32.const ${L.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))))`;
 }
 
 /** Finishes high column k + c: its low LIMB_BITS bits are result limb k + c - L. */
 function highTail(c: number): string {
   const L = LAYOUT;
   return `
-        (local.set $sum (i32x4.add (v128.load (i32.const ${LAYOUT.hi + 4 * V})) (local.get $acc${c})))
-        (v128.store offset=${L.out + c * V} (local.get $j) (v128.and (local.get $sum) (v128.const i32x4 ${MASK} ${MASK} ${MASK} ${MASK})))
-        (v128.store (i32.const ${LAYOUT.hi + 4 * V}) (i32x4.add (v128.load (i32.const ${LAYOUT.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))`;
+        (local.set $sum (i32x4.add (local.get $carry) (local.get $acc${c})))
+        (v128.store offset=${L.out + c * V} (local.get $j) (v128.and (local.get $sum) ${MASKS}))
+        (local.set $carry (i32x4.add (v128.load (i32.const ${L.hi + c * V})) (i32x4.shr_u (local.get $sum) (i32.const ${LIMB_BITS}))))`;
 }
 
 /** The module's text. */
@@ -200,7 +211,7 @@ ${[0, 1, 2, 3]
     (local $c0 v128) (local $c1 v128) (local $c2 v128) (local $c3 v128)
     (local $acc0 v128) (local $acc1 v128) (local $acc2 v128) (local $acc3 v128)
     (local $y0 v128) (local $y1 v128) (local $y2 v128) (local $y3 v128) (local $xi v128)
-    (local $sum v128)
+    (local $sum v128) (local $carry v128) (local $x0 v128) (local $x1 v128) (local $x2 v128) (local $x3 v128)
     (block $end (loop $group
       (br_if $end (i32.ge_u (local.get $g) (local.get $groups)))
       (local.set $idx (i32.add (i32.const ${L.index}) (i32.shl (local.get $g) (i32.const 4))))
@@ -220,7 +231,10 @@ ${gather('gatherRight', 'r', L.y, L.modulusShifted)}
         (local.set $py (i32.add (i32.const ${L.y - (STEPS - 1) * V}) (i32.shl (local.get $blocks) (i32.const ${LOG_STEPS + 4}))))
 ${columnSum('low')}
         (local.set $j (i32.shl (local.get $k) (i32.const 4)))
+${CARRY_IN}
+${[0, 1, 2, 3].map((c) => `        (local.set $x${c} (v128.load offset=${L.x + c * V} (local.get $j)))`).join('\n')}
 ${[0, 1, 2, 3].map(lowTail).join('')}
+${CARRY_OUT}
         (local.set $k (i32.add (local.get $k) (i32.const 4)))
         (br_if $low (i32.lt_u (local.get $k) (local.get $limbs))))
       ;; high columns k = L .. 2L-1, four at a time: the sum runs over i = k-L+1 .. L-1 (terms
@@ -233,7 +247,9 @@ ${[0, 1, 2, 3].map(lowTail).join('')}
         (local.set $py (i32.add (i32.const ${L.y - STEPS * V}) (i32.shl (local.get $limbs) (i32.const 4))))
 ${columnSum('high')}
         (local.set $j (i32.shl (local.get $j) (i32.const 4)))
+${CARRY_IN}
 ${[0, 1, 2, 3].map(highTail).join('')}
+${CARRY_OUT}
         (local.set $k (i32.add (local.get $k) (i32.const 4)))
         (br_if $high (i32.lt_u (local.get $k) (i32.shl (local.get $limbs) (i32.const 1)))))
       ;; scatter the result limbs back to the four output slots
