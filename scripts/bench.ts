@@ -130,7 +130,7 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
     label,
     sites: sites.length,
     buildS,
-    grid: `${m.layout.rows} x ${m.layout.cols}`,
+    layout: built.layoutsTried.find((l) => l.chosen)!.label,
     listLength: m.record.slotsPerRegion,
     matrix: `${m.matrix.rows} x ${m.matrix.columns}`,
     matrixBits: m.matrix.rows * m.matrix.columns,

@@ -1,4 +1,3 @@
-import { siteBox } from '../geo/bounding-box.ts';
 import { ManifestSchema, type Manifest } from '../geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
@@ -8,7 +7,7 @@ import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
 import type { PlanRecord } from '../geo/manifest.ts';
-import { chooseGrid, type GridChoice } from './choose-grid.ts';
+import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
@@ -18,8 +17,8 @@ export interface BuildResult {
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
   stats: { regions: number; maxList: number; meanList: number; buildMs: number };
-  /** Every grid weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
-  gridsTried: Array<{ rows: number; cols: number; regions: number; maxList: number; chosen: boolean; cost: ShapeCost }>;
+  /** Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
+  layoutsTried: Array<{ label: string; kind: 'grid' | 'kd'; regions: number; maxList: number; chosen: boolean; cost: ShapeCost }>;
 }
 
 /** Moduli a client may use against this version (see the design's protocol section). */
@@ -35,7 +34,7 @@ const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number },
+  meta: { dataset: string; version: number; layout?: LayoutChoice },
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -53,7 +52,7 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseGrid(points, siteBox(lats, lons), slotBits, siteOnes);
+  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto');
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
@@ -88,9 +87,9 @@ export async function buildVersion(
       meanList: total / choice.lists.length,
       buildMs: performance.now() - started,
     },
-    gridsTried: tried.map((g: GridChoice) => ({
-      rows: g.layout.rows,
-      cols: g.layout.cols,
+    layoutsTried: tried.map((g: LayoutCandidate) => ({
+      label: g.label,
+      kind: g.layout.kind,
       regions: g.lists.length,
       maxList: g.slotsPerRegion,
       chosen: g === choice,

@@ -37,7 +37,9 @@ export interface Segment {
 export const STOP_HALF_LENGTH_M = 0.5;
 const SLACK_M = 0.01;
 const DOT_TOLERANCE = 1e-12;
-const PRUNE_LIMIT = 8;
+const PRUNE_LIMIT = 48;
+/** Most sites fetched for one piece before it is split instead (far pieces see whole clusters). */
+const FETCH_LIMIT = 4096;
 const NEAR_ANTIPODE_RAD = 3;
 /** Below this half-length a piece fetches all of S, so crowds of near-coincident sites end. */
 const FETCH_ALL_HALF_LENGTH_M = 1000;
@@ -63,17 +65,44 @@ function resolve(points: SitePoints, seg: Segment, a: number, b: number, out: Se
   const reach = chordOfAngle(nearest + (2 * half) / EARTH_MEAN_RADIUS_M + slack);
   const last = half < STOP_HALF_LENGTH_M;
   found.length = 0;
-  const limit = last || half < FETCH_ALL_HALF_LENGTH_M ? Infinity : PRUNE_LIMIT;
+  const limit = last || half < FETCH_ALL_HALF_LENGTH_M ? Infinity : FETCH_LIMIT;
   pointsWithin(points.tree, x, y, z, reach * reach, found, limit);
   // With a limit, more than `limit` found means S was cut short: never accept a cut set.
   const complete = found.length <= limit;
-  const live = found.length <= PRUNE_LIMIT ? undominated(points, seg, a, b, found) : found;
+  const near = complete ? beatingSomewhere(points, found, x, y, z, half / EARTH_MEAN_RADIUS_M + slack) : found;
+  const live = near.length <= PRUNE_LIMIT ? undominated(points, seg, a, b, near) : near;
   if (complete && (live.length <= 2 || last || atMostTwoSpots(points, live))) {
     for (const k of live) out.add(k);
   } else {
     resolve(points, seg, a, mid, out, found);
     resolve(points, seg, mid, b, out, found);
   }
+}
+
+/**
+ * The sites of S that can beat q's nearest site n somewhere on the piece. Site t is no nearer
+ * than n at point p exactly when (t - n) . p <= 0, and along the piece (t - n) . p moves from its
+ * value at q by at most |t - n| |p - q| <= |t - n| * angle (chord <= arc). Far from the sites,
+ * |t - n| is small next to the 2h of the distance bound, so this keeps a handful of sites where
+ * S holds hundreds. n is the nearest of S, which holds every site within reach of q.
+ */
+function beatingSomewhere(points: SitePoints, set: readonly number[], x: number, y: number, z: number, angle: number): number[] {
+  const v = points.xyz;
+  let n = set[0]!;
+  let best = -Infinity;
+  for (const k of set) {
+    const dot = v[3 * k]! * x + v[3 * k + 1]! * y + v[3 * k + 2]! * z;
+    if (dot > best) {
+      best = dot;
+      n = k;
+    }
+  }
+  return set.filter((t) => {
+    const dx = v[3 * t]! - v[3 * n]!;
+    const dy = v[3 * t + 1]! - v[3 * n + 1]!;
+    const dz = v[3 * t + 2]! - v[3 * n + 2]!;
+    return dx * x + dy * y + dz * z + Math.hypot(dx, dy, dz) * angle >= -DOT_TOLERANCE;
+  });
 }
 
 /**

@@ -28,16 +28,7 @@ export function siteBox(lats: ArrayLike<number>, lons: ArrayLike<number>): LatLo
     latLo = Math.min(latLo, lats[i]!);
     latHi = Math.max(latHi, lats[i]!);
   }
-  const sorted = Float64Array.from(lons, (l) => (l >= 180 ? l - 360 : l)).sort();
-  let gap = sorted[0]! + 360 - sorted[n - 1]!;
-  let start = sorted[0]!;
-  for (let i = 1; i < n; i++) {
-    const g = sorted[i]! - sorted[i - 1]!;
-    if (g > gap) {
-      gap = g;
-      start = sorted[i]!;
-    }
-  }
+  const { start, gap } = widestLongitudeGap(lons);
   const lonSpan = 360 - gap;
   const latMargin = MARGIN_SHARE * (latHi - latLo) + MARGIN_FLOOR_DEG;
   // Longitude degrees shrink toward the poles; widen the floor so the margin is similar in metres.
@@ -49,4 +40,24 @@ export function siteBox(lats: ArrayLike<number>, lons: ArrayLike<number>): LatLo
   let lonMin = start - lonMargin;
   if (lonMin < -180) lonMin += 360;
   return { latMin, latMax, lonMin, lonMax: lonMin + lonSpan + 2 * lonMargin };
+}
+
+/**
+ * The widest gap between site longitudes, going east: it ends at `start` (a site longitude) and
+ * is `gap` degrees wide. Its middle is the seam where the adaptive layout starts its longitudes.
+ */
+export function widestLongitudeGap(lons: ArrayLike<number>): { start: number; gap: number } {
+  const n = lons.length;
+  if (n < 1) throw new RangeError('widestLongitudeGap: expected at least one longitude, got 0');
+  const sorted = Float64Array.from(lons, (l) => (l >= 180 ? l - 360 : l)).sort();
+  let gap = sorted[0]! + 360 - sorted[n - 1]!;
+  let start = sorted[0]!;
+  for (let i = 1; i < n; i++) {
+    const g = sorted[i]! - sorted[i - 1]!;
+    if (g > gap) {
+      gap = g;
+      start = sorted[i]!;
+    }
+  }
+  return { start, gap };
 }

@@ -1,4 +1,5 @@
 import { gridRegion } from './grid.ts';
+import { kdRegion } from './kd-layout.ts';
 import type { Manifest } from './manifest.ts';
 
 /** Where a point's candidate list lives: its region, the matrix column, and rows in it. */
@@ -22,7 +23,8 @@ export function locateRegion(manifest: Manifest, lat: number, lon: number): Regi
   if (typeof lon !== 'number' || !(lon >= -180 && lon <= 180)) {
     throw new RangeError(`locateRegion: expected lon in [-180, 180], got ${lon}`);
   }
-  const region = gridRegion(manifest.layout, lat, lon);
+  const layout = manifest.layout;
+  const region = layout.kind === 'grid' ? gridRegion(layout, lat, lon) : kdRegion(layout, lat, lon);
   const { regionsPerColumn } = manifest.matrix;
   const rowCount = manifest.record.regionBits;
   return {

@@ -23,6 +23,32 @@ export const GridLayoutSchema = z
     error: 'layout: expected lonMin < lonMax <= lonMin + 360',
   });
 
+/** The adaptive layout (kd-layout.ts): preorder splits, null for a leaf (a region). */
+export const KdLayoutSchema = z
+  .object({
+    kind: z.literal('kd'),
+    lonStart: z.number().min(-360).max(360),
+    nodes: z.array(z.union([z.tuple([z.union([z.literal(0), z.literal(1)]), z.number().finite()]), z.null()])).min(1),
+  })
+  .refine((k) => isPreorderTree(k.nodes), { error: 'layout: expected nodes to be one complete tree in preorder' });
+
+export const LayoutSchema = z.union([GridLayoutSchema, KdLayoutSchema]);
+export type Layout = z.infer<typeof LayoutSchema>;
+
+/** Regions of a layout: grid cells plus "outside", or kd leaves. */
+export function regionCount(layout: Layout): number {
+  return layout.kind === 'grid' ? layout.rows * layout.cols + 1 : layout.nodes.filter((n) => n === null).length;
+}
+
+function isPreorderTree(nodes: ReadonlyArray<unknown>): boolean {
+  let open = 1;
+  for (let i = 0; i < nodes.length; i++) {
+    if (open === 0) return false;
+    open += nodes[i] === null ? -1 : 1;
+  }
+  return open === 0;
+}
+
 export const RecordSchema = z
   .object({
     indexBits: z.number().int().min(1).max(31),
@@ -59,7 +85,7 @@ export const ManifestSchema = z
     siteCount: count,
     contentHash: z.string().regex(/^[0-9a-f]{64}$/),
     modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
-    layout: GridLayoutSchema,
+    layout: LayoutSchema,
     record: RecordSchema,
     matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
     siteIds: z.array(z.string().min(1)),
@@ -69,7 +95,7 @@ export const ManifestSchema = z
   .refine((m) => m.matrix.rows === m.matrix.regionsPerColumn * m.record.regionBits, {
     error: 'manifest: expected matrix.rows = regionsPerColumn * regionBits',
   })
-  .refine((m) => m.matrix.columns === Math.ceil((m.layout.rows * m.layout.cols + 1) / m.matrix.regionsPerColumn), {
+  .refine((m) => m.matrix.columns === Math.ceil(regionCount(m.layout) / m.matrix.regionsPerColumn), {
     error: 'manifest: expected matrix.columns = ceil(regions / regionsPerColumn)',
   });
 

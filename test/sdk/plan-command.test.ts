@@ -18,19 +18,19 @@ describe('nearveil plan FILE', () => {
     return { code, out: out.join('\n'), err: err.join('\n') };
   }
 
-  it('prints the chosen grid and every grid weighed, without a server', async () => {
+  it('prints the chosen layout and every layout weighed, without a server', async () => {
     const { code, out } = await run(['plan', file, '--json']);
     expect(code).toBe(0);
     const plan = JSON.parse(out) as {
       siteCount: number;
       matrix: { rows: number; columns: number; plan: { products: number; plainProducts: number } };
-      gridsTried: Array<{ chosen: boolean; cost: { rows: number; columns: number; bytesUp: number; seconds: { total: number } } }>;
+      layoutsTried: Array<{ chosen: boolean; cost: { rows: number; columns: number; bytesUp: number; seconds: { total: number } } }>;
     };
     expect(plan.siteCount).toBe(sites.length);
-    const chosen = plan.gridsTried.filter((g) => g.chosen);
+    const chosen = plan.layoutsTried.filter((g) => g.chosen);
     expect(chosen).toHaveLength(1);
     // The chosen grid is the cheapest weighed, and its shape is the matrix built.
-    expect(chosen[0]!.cost.seconds.total).toBe(Math.min(...plan.gridsTried.map((g) => g.cost.seconds.total)));
+    expect(chosen[0]!.cost.seconds.total).toBe(Math.min(...plan.layoutsTried.map((g) => g.cost.seconds.total)));
     expect([chosen[0]!.cost.rows, chosen[0]!.cost.columns]).toEqual([plan.matrix.rows, plan.matrix.columns]);
     expect(chosen[0]!.cost.bytesUp).toBe(10 + 256 * (plan.matrix.columns + 1));
     expect(plan.matrix.plan.products).toBeLessThanOrEqual(plan.matrix.plan.plainProducts);

@@ -4,7 +4,7 @@ import { buildVersion, type BuildResult } from '../../../core/build/build-versio
 import { decodeCandidates, nearestCandidates } from '../../../core/geo/candidates.ts';
 import { greatCircleMeters } from '../../../core/geo/distance.ts';
 import { locateRegion } from '../../../core/geo/locate.ts';
-import { ManifestSchema } from '../../../core/geo/manifest.ts';
+import { ManifestSchema, regionCount } from '../../../core/geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../../../core/geo/quantise.ts';
 import type { Site, SiteTable } from '../../../core/geo/site-table.ts';
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
@@ -62,8 +62,8 @@ function clusteredDemo(seed: number): SiteTable {
 describe('buildVersion', () => {
   it('is deterministic and its manifest validates and matches its matrix', async () => {
     const table = clusteredDemo(7);
-    const a = await buildVersion(table, { dataset: 'demo-clinics', version: 3 });
-    const b = await buildVersion(table, { dataset: 'demo-clinics', version: 3 });
+    const a = await buildVersion(table, { dataset: 'demo-clinics', version: 3, layout: 'grid' });
+    const b = await buildVersion(table, { dataset: 'demo-clinics', version: 3, layout: 'grid' });
     expect(Buffer.from(a.matrixBlob).equals(Buffer.from(b.matrixBlob))).toBe(true);
     expect(a.manifest).toEqual(b.manifest);
     expect(ManifestSchema.parse(JSON.parse(JSON.stringify(a.manifest)))).toEqual(a.manifest);
@@ -75,17 +75,18 @@ describe('buildVersion', () => {
     expect(a.manifest.matrix.rows).toBe(a.matrix.rows);
     expect(a.manifest.matrix.columns).toBe(a.matrix.columns);
     expect(a.manifest.siteIds).toEqual(table.sites.map((s) => s.id));
-    expect(a.stats.regions).toBe(a.manifest.layout.rows * a.manifest.layout.cols + 1);
+    expect(a.stats.regions).toBe(regionCount(a.manifest.layout));
     expect(a.stats.maxList).toBe(a.manifest.record.slotsPerRegion);
-    const c = await buildVersion({ ...table, sites: [...table.sites.slice(1), table.sites[0]!] }, { dataset: 'demo-clinics', version: 3 });
+    const c = await buildVersion({ ...table, sites: [...table.sites.slice(1), table.sites[0]!] }, { dataset: 'demo-clinics', version: 3, layout: 'grid' });
     expect(c.manifest.contentHash).not.toBe(a.manifest.contentHash);
   });
 
   it('finds the exact nearest site of a clustered demo set, inside and outside the grid', async () => {
     const table = clusteredDemo(11);
-    const build = await buildVersion(table, { dataset: 'demo-clinics', version: 1 });
+    const build = await buildVersion(table, { dataset: 'demo-clinics', version: 1, layout: 'grid' });
     const rand = prng(99);
     const { layout } = build.manifest;
+    if (layout.kind !== 'grid') throw new Error('expected a grid');
     for (let i = 0; i < 600; i++) {
       const s = table.sites[Math.floor(rand() * table.sites.length)]!;
       const [lat, lon] =
@@ -105,10 +106,13 @@ describe('buildVersion', () => {
     const huts = Array.from({ length: 150 }, () => [-90 + rand() * 4, rand() * 360 - 180] as const);
     for (const pts of [islands, [...huts, [-90, 0] as const]]) {
       const table = tableOf(pts);
-      const build = await buildVersion(table, { dataset: 'demo-edges', version: 1 });
-      if (pts === islands) expect(build.manifest.layout.lonMax).toBeGreaterThan(180);
-      else expect(build.manifest.layout.latMin).toBe(-90);
-      for (let i = 0; i < 300; i++) {
+      const grid = await buildVersion(table, { dataset: 'demo-edges', version: 1, layout: 'grid' });
+      if (grid.manifest.layout.kind !== 'grid') throw new Error('expected a grid');
+      if (pts === islands) expect(grid.manifest.layout.lonMax).toBeGreaterThan(180);
+      else expect(grid.manifest.layout.latMin).toBe(-90);
+      const adaptive = await buildVersion(table, { dataset: 'demo-edges', version: 1, layout: 'adaptive' });
+      for (let i = 0; i < 600; i++) {
+        const build = i % 2 ? grid : adaptive;
         const [a, b] = pts[i % pts.length]!;
         const lat = i % 2 ? Math.max(-90, Math.min(90, a + (rand() - 0.5) * 4)) : Math.asin(2 * rand() - 1) * (180 / Math.PI);
         const lon = i % 2 ? wrapLon(b + (rand() - 0.5) * 8) : rand() * 360 - 180;
@@ -142,15 +146,32 @@ describe('buildVersion', () => {
     await fc.assert(
       fc.asyncProperty(siteSet, fc.array(fc.tuple(lat, lon), { minLength: 5, maxLength: 5 }), async (pts, queries) => {
         const table = tableOf(pts);
-        const build = await buildVersion(table, { dataset: 'prop', version: 1 });
-        // Queries anywhere, plus queries close to the sites where the lists are busiest.
-        const near = pts.slice(0, 5).map(([a, b]) => [Math.max(-90, Math.min(90, a + 0.003)), b] as const);
-        for (const [qa, qb] of [...queries, ...near]) {
-          expect(privateNearest(build, qa, qb)).toBe(bruteNearest(table, qa, qb));
+        for (const layout of ['grid', 'adaptive'] as const) {
+          const build = await buildVersion(table, { dataset: 'prop', version: 1, layout });
+          // Queries anywhere, plus queries close to the sites where the lists are busiest.
+          const near = pts.slice(0, 5).map(([a, b]) => [Math.max(-90, Math.min(90, a + 0.003)), b] as const);
+          for (const [qa, qb] of [...queries, ...near]) {
+            expect({ layout, index: privateNearest(build, qa, qb) }).toEqual({ layout, index: bruteNearest(table, qa, qb) });
+          }
         }
       }),
       { numRuns: 120 },
     );
+  });
+
+  it('adaptive regions find the exact nearest site of the clustered demo set, anywhere on Earth, with far fewer bits', async () => {
+    const table = clusteredDemo(11);
+    const adaptive = await buildVersion(table, { dataset: 'demo-clinics', version: 1, layout: 'adaptive' });
+    const grid = await buildVersion(table, { dataset: 'demo-clinics', version: 1, layout: 'grid' });
+    expect(adaptive.manifest.layout.kind).toBe('kd');
+    const bits = (b: typeof grid) => b.manifest.matrix.rows * b.manifest.matrix.columns;
+    expect(bits(adaptive)).toBeLessThan(bits(grid));
+    const rand = prng(123);
+    for (let i = 0; i < 600; i++) {
+      const s = table.sites[Math.floor(rand() * table.sites.length)]!;
+      const [lat, lon] = i % 2 ? [s.lat + (rand() - 0.5) * 0.05, s.lon + (rand() - 0.5) * 0.05] : [Math.asin(2 * rand() - 1) * (180 / Math.PI), rand() * 360 - 180];
+      expect({ lat, lon, index: privateNearest(adaptive, lat, lon) }).toEqual({ lat, lon, index: bruteNearest(table, lat, lon) });
+    }
   });
 
   it('refuses an empty table and bad meta', async () => {
