@@ -37,8 +37,9 @@ export function connectAdmin(options: AdminOptions) {
       const response = await send(http, 'POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`, csv, 'text/csv; charset=utf-8');
       return (await response.json()) as VersionInfo;
     },
-    build: (dataset: string, version: number) =>
-      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build`),
+    /** layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper. */
+    build: (dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto') =>
+      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`),
     publish: (dataset: string, version: number) =>
       json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),
     versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),

@@ -58,8 +58,12 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
-    const manifest = await runBuild(c.env, db, dataset, version);
-    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), matrix: manifest.matrix });
+    const layout = c.req.query('layout') ?? 'auto';
+    if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
+      throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
+    }
+    const manifest = await runBuild(c.env, db, dataset, version, layout);
+    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
   })
   .post('/datasets/:dataset/versions/:version/publish', async (c) => {
     const db = database(c.env);

@@ -108,6 +108,19 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
     await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', csv, 'application/json'), 415, 'content_type', 'content-type');
   });
 
+  it('refuses an unknown layout for a build, and builds the layout asked for', async () => {
+    const up = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
+    const { version } = (await up.json()) as { version: number };
+    await expectRefused(() => adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${version}/build?layout=hexagons`), 400, 'invalid_layout', 'layout');
+    for (const [layout, kind] of [['grid', 'grid'], ['adaptive', 'kd']] as const) {
+      const next = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
+      const n = ((await next.json()) as { version: number }).version;
+      const built = await adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${n}/build?layout=${layout}`);
+      expect(built.status).toBe(200);
+      expect(((await built.json()) as { layout: string }).layout).toBe(kind);
+    }
+  });
+
   it('refuses a bad dataset slug and an over-long JSON body', async () => {
     await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets', JSON.stringify({ slug: 'Not A Slug' }), 'application/json'), 400, 'invalid_body', 'slug');
     await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets', '{nope', 'application/json'), 400, 'invalid_json', 'body');

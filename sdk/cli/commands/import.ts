@@ -3,8 +3,9 @@ import { connectAdmin } from '../../admin.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
 import { connectionOptions, parseCommand, requireString, resolveConnection } from '../options.ts';
+import { layoutOption } from './plan.ts';
 
-export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--publish] [--json]
+export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive] [--publish] [--json]
   Uploads a site table (CSV with a header; columns id, lat, lon required, name optional, every
   other column a detail) as a new version of the dataset, builds its cell matrix and, with
   --publish, makes it the active version. The dataset is created if it does not exist.
@@ -16,6 +17,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
     dataset: { type: 'string' },
     name: { type: 'string' },
     publish: { type: 'boolean', default: false },
+    layout: { type: 'string', default: 'auto' },
   });
   if (values.help) return print(IMPORT_HELP);
   if (positionals.length !== 1) throw new CliError(`import: expected one FILE, got ${positionals.length === 0 ? 'none' : positionals.join(' ')}`);
@@ -35,7 +37,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
   await admin.ensureDataset(dataset, values.name);
   const uploaded = await admin.uploadSiteTable(dataset, new Uint8Array(csv));
-  const built = await admin.build(dataset, uploaded.version);
+  const built = await admin.build(dataset, uploaded.version, layoutOption(values.layout));
   const published = values.publish ? await admin.publish(dataset, uploaded.version) : null;
   if (values.json) {
     print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, matrix: built.matrix }));
