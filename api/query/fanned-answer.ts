@@ -1,5 +1,5 @@
 import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
-import { splitColumns, type ColumnPart } from '../../core/pir/fan-out.ts';
+import type { ColumnPart } from '../../core/pir/fan-out.ts';
 import { combineParts } from '../../core/pir/planned-answer.ts';
 import { decodeAnswer, encodeQuery } from '../../core/pir/wire.ts';
 import { ApiError } from '../http/api-error.ts';
@@ -44,4 +44,3 @@ export async function answerByParts(
   return { rows: combined.rows, products, parts: parts.length };
 }
 
-export { splitColumns };

@@ -12,7 +12,8 @@ import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
-import { answerByParts, splitColumns } from './fanned-answer.ts';
+import { splitColumns } from '../../core/pir/fan-out.ts';
+import { answerByParts } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
 import { productEngine } from './product-engine.ts';
 

@@ -71,11 +71,6 @@ function leavesIn(nodes: KdLayout['nodes'], from: number, to: number): number {
   return count;
 }
 
-/** Number of regions (leaves) of a kd layout. */
-export function kdRegionCount(layout: KdLayout): number {
-  return leavesIn(layout.nodes, 0, layout.nodes.length);
-}
-
 /**
  * Builds the kd layout and the candidate list of every leaf, splitting while a box lists more
  * than `target` sites: on the box's wider side in metres, at the median site inside it (or the
