@@ -81,7 +81,7 @@ describe('README commands', () => {
   it('`nearveil usage --json` prints the month\'s totals, counting the queries above', () => {
     const run = nearveil(['usage', '--json']);
     expect(run.code, run.stderr).toBe(0);
-    const usage = JSON.parse(run.stdout) as Record<string, number> & { totals: Record<string, number>; month: string };
+    const usage = JSON.parse(run.stdout) as { month: string; queries: number; bytesIn: number; totals: { queries: number } } & Record<string, unknown>;
     expect(usage.month).toBe(new Date().toISOString().slice(0, 7));
     // Four demo queries and one on the imported dataset, above; each moved bytes and cost products.
     expect(usage.queries).toBeGreaterThanOrEqual(5);
