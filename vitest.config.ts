@@ -23,7 +23,7 @@ export default defineConfig({
           cloudflareTest({
             wrangler: { configPath: './wrangler.toml' },
             // A low fan-out threshold, so the tests' mid-size datasets are answered by parts.
-            miniflare: { bindings: { TEST_MIGRATIONS: migrations, FANOUT_PRODUCTS_PER_PART: '6000' } },
+            miniflare: { bindings: { TEST_MIGRATIONS: migrations, FANOUT_PRODUCTS_PER_PART: '6000', BUILD_RETRY_DELAY_SECONDS: '0' } },
           }),
         ],
         test: {

@@ -6,6 +6,14 @@ export interface Env {
   readonly PARTS?: { rowProducts(request: import('./query/answer-part.ts').PartRequest): Promise<import('./query/answer-part.ts').PartResult> };
   /** Answers estimated above this many products are split over parts (default 2,000,000). */
   readonly FANOUT_PRODUCTS_PER_PART?: string;
+  /** The build queue (producer side); api/builds/consume-builds.ts is its consumer. */
+  readonly BUILDS: Queue<import('./builds/build-message.ts').BuildMessage>;
+  /** Deliveries of one build message before its version is marked failed (default 3). */
+  readonly BUILD_ATTEMPTS?: string;
+  /** Delay before a failed build attempt is delivered again (default 30 s). */
+  readonly BUILD_RETRY_DELAY_SECONDS?: string;
+  /** How long a version that stopped being active still answers queries (default 900 s). */
+  readonly VERSION_GRACE_SECONDS?: string;
 }
 
 /** Per-request values set by the credential middleware. */

@@ -9,10 +9,36 @@ export interface AdminOptions {
 
 export interface VersionInfo {
   version: number;
+  /** draft, building, ready, active, retired or failed. */
   state: string;
   siteCount: number;
   contentHash: string | null;
+  /** While building: the stage and the percent of the whole build reached. */
+  progress: { stage: string; percent: number } | null;
   error: string | null;
+  layout: 'grid' | 'kd' | null;
+  matrix: { rows: number; columns: number; ones: number; products: number } | null;
+  createdAt: string;
+  builtAt: string | null;
+  publishedAt: string | null;
+  /** A version no longer active answers until then, then retires. */
+  servedUntil: string | null;
+  retiredAt: string | null;
+}
+
+export interface Switched {
+  dataset: string;
+  activeVersion: number;
+  previousVersion: number | null;
+  graceSeconds: number;
+}
+
+export interface BuildWaitOptions {
+  /** Called with every progress seen while waiting. */
+  onProgress?: (info: VersionInfo) => void;
+  /** Give up after this long (default 15 minutes, a queue consumer's wall-clock limit). */
+  timeoutMs?: number;
+  pollMs?: number;
 }
 
 export interface ApiKeyInfo {
@@ -69,11 +95,29 @@ export function connectAdmin(options: AdminOptions) {
       const response = await send(http, 'POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`, csv, 'text/csv; charset=utf-8');
       return (await response.json()) as VersionInfo;
     },
-    /** layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper. */
-    build: (dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto') =>
-      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`),
-    publish: (dataset: string, version: number) =>
-      json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),
+    /**
+     * Queues a build and waits until the version is ready (throws `build_failed` if it failed).
+     * layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper.
+     */
+    async build(dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto', wait: BuildWaitOptions = {}): Promise<VersionInfo & { matrix: NonNullable<VersionInfo['matrix']> }> {
+      await json<VersionInfo>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`);
+      const until = Date.now() + (wait.timeoutMs ?? 15 * 60_000);
+      for (;;) {
+        const info = await json<VersionInfo>('GET', versionPath(dataset, version));
+        if (info.state !== 'building') {
+          if (info.state !== 'ready' || info.matrix === null) throw new NearveilError(422, 'build_failed', `build of version ${version} of "${dataset}" ${info.state === 'failed' ? 'failed' : `ended ${info.state}`}: ${info.error ?? 'no reason given'}`, 'version');
+          return { ...info, matrix: info.matrix };
+        }
+        wait.onProgress?.(info);
+        if (Date.now() > until) throw new NearveilError(0, 'build_timeout', `version ${version} of "${dataset}" is still building (${info.progress?.stage ?? 'queued'}); check again with \`nearveil versions\``);
+        await new Promise((r) => setTimeout(r, wait.pollMs ?? 500));
+      }
+    },
+    version: (dataset: string, version: number) => json<VersionInfo>('GET', versionPath(dataset, version)),
+    publish: (dataset: string, version: number) => json<Switched>('POST', `${versionPath(dataset, version)}/publish`),
+    /** Switches back to `toVersion`, or by default to the newest earlier version that was published. */
+    rollback: (dataset: string, toVersion?: number) =>
+      json<Switched>('POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/rollback`, toVersion === undefined ? {} : { toVersion }),
     versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),
     /** A new API key; `secret` is shown this once. `datasets` limits it to those slugs. */
     createApiKey: (key: { label: string; datasets?: string[]; monthlyQuota?: number }) => json<ApiKeyInfo & { secret: string }>('POST', 'v1/admin/keys', key),

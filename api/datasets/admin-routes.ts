@@ -1,17 +1,20 @@
-import { and, eq } from 'drizzle-orm';
+import { eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { requireCredential } from '../auth/require-credential.ts';
 import { database } from '../db/client.ts';
-import { datasets, versions } from '../db/schema.ts';
+import { datasets } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
 import { blobKeys, putBlob } from '../storage/blobs.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
-import { runBuild, sha256Hex } from './run-build.ts';
+import { queueBuild } from '../builds/queue-build.ts';
+import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
+import { activateVersion, graceSeconds, rollbackTarget } from './activate-version.ts';
+import { sweepVersions } from './retire-versions.ts';
 
 /** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
 export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
@@ -54,6 +57,11 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
+  .get('/datasets/:dataset/versions/:version', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    return c.json(versionView(await findVersion(db, dataset, pathVersion(c.req.param('version')))));
+  })
   .post('/datasets/:dataset/versions/:version/build', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
@@ -62,42 +70,68 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
       throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
     }
-    const manifest = await runBuild(c.env, db, dataset, version, layout);
-    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
+    await queueBuild(c.env, db, dataset, version, layout);
+    return c.json(versionView(await findVersion(db, dataset, version.number)), 202);
   })
   .post('/datasets/:dataset/versions/:version/publish', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
-    if (version.state !== 'ready' && version.state !== 'active') {
-      throw new ApiError(409, 'version_state', `version ${version.number} is ${version.state}; only a built (ready) version can be published`, 'version');
-    }
-    const now = new Date().toISOString();
-    // One batch, so readers see either the old or the new active version, never none or two.
-    await db.batch([
-      db.update(versions).set({ state: 'ready' }).where(and(eq(versions.datasetId, dataset.id), eq(versions.state, 'active'))),
-      db
-        .update(versions)
-        .set({ state: 'active', publishedAt: now })
-        .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number))),
-      db.update(datasets).set({ activeVersion: version.number }).where(eq(datasets.id, dataset.id)),
-    ]);
-    return c.json({ dataset: dataset.slug, activeVersion: version.number, previousVersion: dataset.activeVersion });
+    const switched = await activateVersion(c.env, db, dataset, version);
+    c.executionCtx.waitUntil(sweepQuietly(c.env));
+    return c.json({ dataset: dataset.slug, ...switched, graceSeconds: graceSeconds(c.env) });
+  })
+  .post('/datasets/:dataset/rollback', limitBody(4096), async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const text = await c.req.text();
+    const body = RollbackBody.parse(text.trim() === '' ? {} : parseJson(text));
+    const target = body.toVersion === undefined ? rollbackTarget(dataset, await listVersions(db, dataset.id)) : await findVersion(db, dataset, body.toVersion);
+    if (target.number === dataset.activeVersion) throw new ApiError(409, 'version_active', `version ${target.number} is already active`, 'toVersion');
+    const switched = await activateVersion(c.env, db, dataset, target);
+    c.executionCtx.waitUntil(sweepQuietly(c.env));
+    return c.json({ dataset: dataset.slug, ...switched, graceSeconds: graceSeconds(c.env) });
   });
+
+const RollbackBody = z.object({ toVersion: z.number().int().min(1).optional() }).strict();
+
+function parseJson(text: string): unknown {
+  try {
+    return JSON.parse(text);
+  } catch {
+    throw new ApiError(400, 'invalid_json', 'body: expected a JSON object', 'body');
+  }
+}
+
+/** Retires versions whose grace has passed; a failing sweep is logged, the next one catches up. */
+async function sweepQuietly(env: AppBindings['Bindings']): Promise<void> {
+  try {
+    await sweepVersions(env);
+  } catch (err) {
+    console.error('nearveil: version sweep failed', err);
+  }
+}
 
 function datasetView(row: typeof datasets.$inferSelect) {
   return { slug: row.slug, name: row.name, activeVersion: row.activeVersion, createdAt: row.createdAt };
 }
 
 function versionView(row: VersionRow) {
+  const summary = row.summary === null ? null : (JSON.parse(row.summary) as BuildSummary);
   return {
     version: row.number,
     state: row.state,
     siteCount: row.siteCount,
     contentHash: row.contentHash,
+    progress: row.state === 'building' && row.progressStage !== null ? { stage: row.progressStage, percent: row.progressPercent ?? 0 } : null,
     error: row.error,
+    layout: summary?.layout ?? null,
+    matrix: summary === null ? null : { rows: summary.rows, columns: summary.columns, ones: summary.ones, products: summary.products },
+    buildAttempts: row.buildAttempts,
     createdAt: row.createdAt,
     builtAt: row.builtAt,
     publishedAt: row.publishedAt,
+    servedUntil: row.servedUntil,
+    retiredAt: row.retiredAt,
   };
 }

@@ -1,6 +1,6 @@
 import { and, desc, eq } from 'drizzle-orm';
 import type { Database } from '../db/client.ts';
-import { datasets, versions, type VersionState } from '../db/schema.ts';
+import { datasets, versions } from '../db/schema.ts';
 import { ApiError } from '../http/api-error.ts';
 
 export type DatasetRow = typeof datasets.$inferSelect;
@@ -55,24 +55,8 @@ export async function insertDraftVersion(
   throw new ApiError(409, 'version_conflict', 'too many concurrent uploads to this dataset; try again', 'version');
 }
 
-/** Moves a version from one of `from` to `to`; false if another request moved it first. */
-export async function moveVersionState(
-  db: Database,
-  version: VersionRow,
-  from: readonly VersionState[],
-  to: VersionState,
-  extra: Partial<VersionRow> = {},
-): Promise<boolean> {
-  if (!from.includes(version.state)) return false;
-  const rows = await db
-    .update(versions)
-    .set({ ...extra, state: to })
-    .where(and(eq(versions.datasetId, version.datasetId), eq(versions.number, version.number), eq(versions.state, version.state)))
-    .returning({ number: versions.number });
-  return rows.length === 1;
-}
-
-/** A version answers queries once it has been published and until it is retired. */
-export function isAnswerable(version: VersionRow): boolean {
-  return version.state === 'active' || (version.state === 'ready' && version.publishedAt !== null);
+/** A version answers while active, and after that until its grace period ends (then it retires). */
+export function isAnswerable(version: VersionRow, now = new Date()): boolean {
+  if (version.state === 'active') return true;
+  return version.state === 'ready' && version.servedUntil !== null && version.servedUntil > now.toISOString();
 }

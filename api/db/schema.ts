@@ -75,6 +75,19 @@ export const versions = sqliteTable(
     createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
     builtAt: text('built_at'),
     publishedAt: text('published_at'),
+    /** Layout asked for by the build request (auto, grid or adaptive). */
+    layout: text('layout'),
+    /** Build progress while building: the stage, its percent (0-100) and when it was last written. */
+    progressStage: text('progress_stage'),
+    progressPercent: integer('progress_percent'),
+    progressAt: text('progress_at'),
+    /** Deliveries of the build message so far (the queue retries a failed attempt). */
+    buildAttempts: integer('build_attempts').notNull().default(0),
+    /** What the built matrix looks like (JSON: layout kind, rows, columns, ones, plan products). */
+    summary: text('summary'),
+    /** A version no longer active keeps answering until then (VERSION_GRACE_SECONDS), then retires. */
+    servedUntil: text('served_until'),
+    retiredAt: text('retired_at'),
   },
   (t) => [primaryKey({ columns: [t.datasetId, t.number] })],
 );

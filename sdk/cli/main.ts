@@ -5,6 +5,7 @@ import { IMPORT_HELP, importCommand } from './commands/import.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
 import { QUERY_HELP, queryCommand } from './commands/query.ts';
 import { USAGE_HELP, usageCommand } from './commands/usage.ts';
+import { publishCommand, rollbackCommand, VERSIONS_HELP, versionsCommand } from './commands/versions.ts';
 
 const HELP = `nearveil: private nearest-site lookup
 
@@ -15,6 +16,8 @@ ${IMPORT_HELP}
 
 ${PLAN_HELP}
 
+${VERSIONS_HELP}
+
 ${USAGE_HELP}
 
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
@@ -23,6 +26,9 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   query: queryCommand,
   import: importCommand,
   plan: planCommand,
+  versions: versionsCommand,
+  publish: publishCommand,
+  rollback: rollbackCommand,
   usage: usageCommand,
 };
 

@@ -3,7 +3,7 @@ import { jacobi } from '../../core/bigint/jacobi.ts';
 import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
-import { adminRequest, appRequest, BASE, createTestTenant, publishDataset, storedState, worker, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, appRequest, BASE, buildAndWait, createTestTenant, publishDataset, storedState, worker, type TestTenant } from './tenant-fixture.ts';
 import { rhodeIslandZipCsv } from './open-data-sites.ts';
 
 /** Sends a bad request and checks: the status, a JSON error naming code and field, and no stored change. */
@@ -115,9 +115,8 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
     for (const [layout, kind] of [['grid', 'grid'], ['adaptive', 'kd']] as const) {
       const next = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
       const n = ((await next.json()) as { version: number }).version;
-      const built = await adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${n}/build?layout=${layout}`);
-      expect(built.status).toBe(200);
-      expect(((await built.json()) as { layout: string }).layout).toBe(kind);
+      const built = await buildAndWait(t, 'ri-zips', n, layout);
+      expect(built.layout).toBe(kind);
     }
   });
 

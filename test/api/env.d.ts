@@ -8,6 +8,9 @@ declare global {
       BLOBS: R2Bucket;
       TEST_MIGRATIONS: D1Migration[];
       FANOUT_PRODUCTS_PER_PART: string;
+      BUILDS: Queue;
+      VERSION_GRACE_SECONDS: string;
+      BUILD_ATTEMPTS: string;
     }
     // Types `exports` of cloudflare:workers: the Worker's entry module, reached in-process.
     interface GlobalProps {

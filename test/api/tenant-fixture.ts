@@ -48,11 +48,42 @@ export async function publishDataset(t: TestTenant, slug: string, csv: string): 
   const up = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions`, csv, 'text/csv');
   if (up.status !== 201) throw new Error(`upload failed: ${up.status} ${await up.text()}`);
   const { version } = (await up.json()) as { version: number };
-  const built = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/build`);
-  if (built.status !== 200) throw new Error(`build failed: ${built.status} ${await built.text()}`);
+  await buildAndWait(t, slug, version);
   const pub = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/publish`);
   if (pub.status !== 200) throw new Error(`publish failed: ${pub.status} ${await pub.text()}`);
   return version;
+}
+
+export interface VersionBody {
+  version: number;
+  state: string;
+  error: string | null;
+  progress: { stage: string; percent: number } | null;
+  layout: string | null;
+  matrix: { rows: number; columns: number; ones: number; products: number } | null;
+  servedUntil: string | null;
+}
+
+/** Queues a build (202) and polls the version until the queue consumer finished it. */
+export async function buildAndWait(t: TestTenant, slug: string, version: number, layout?: string): Promise<VersionBody> {
+  const path = `/v1/admin/datasets/${slug}/versions/${version}`;
+  const queued = await adminRequest(t, 'POST', `${path}/build${layout ? `?layout=${layout}` : ''}`);
+  if (queued.status !== 202) throw new Error(`build not queued: ${queued.status} ${await queued.text()}`);
+  return waitForVersion(t, slug, version);
+}
+
+/** Polls a version until it leaves "building"; throws if it failed or takes over 150 s. */
+export async function waitForVersion(t: TestTenant, slug: string, version: number, expect: 'ready' | 'failed' = 'ready'): Promise<VersionBody> {
+  const until = Date.now() + 150_000;
+  for (;;) {
+    const row = (await (await adminRequest(t, 'GET', `/v1/admin/datasets/${slug}/versions/${version}`)).json()) as VersionBody;
+    if (row.state !== 'building') {
+      if (row.state !== expect) throw new Error(`version ${version} of ${slug} is ${row.state}, expected ${expect}: ${row.error}`);
+      return row;
+    }
+    if (Date.now() > until) throw new Error(`version ${version} of ${slug} still building after 150 s (${JSON.stringify(row.progress)})`);
+    await new Promise((r) => setTimeout(r, 100));
+  }
 }
 
 /** Everything a refused request must leave untouched: D1 rows of interest and the R2 key list. */

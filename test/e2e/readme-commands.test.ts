@@ -78,6 +78,26 @@ describe('README commands', () => {
     expect(JSON.parse(run.stdout).version).toBe(1);
   });
 
+  it('`nearveil versions`, `publish` and `rollback` switch the active version of the imported dataset', () => {
+    const again = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--publish', '--json']);
+    expect(again.code, again.stderr).toBe(0);
+    expect(JSON.parse(again.stdout)).toMatchObject({ version: 2, state: 'active' });
+    const rolled = nearveil(['rollback', '--dataset', 'pharmacies']);
+    expect(rolled.code, rolled.stderr).toBe(0);
+    expect(rolled.stdout).toMatch(/version 1 of pharmacies is active again \(was 2\)/);
+    const list = nearveil(['versions', '--dataset', 'pharmacies', '--json']);
+    expect(list.code, list.stderr).toBe(0);
+    const versions = JSON.parse(list.stdout) as { activeVersion: number; versions: Array<{ version: number; state: string; servedUntil: string | null }> };
+    expect(versions.activeVersion).toBe(1);
+    expect(versions.versions.map((v) => [v.version, v.state])).toEqual([[2, 'ready'], [1, 'active']]);
+    expect(Date.parse(versions.versions[0]!.servedUntil!)).toBeGreaterThan(Date.now());
+    const published = nearveil(['publish', '--dataset', 'pharmacies', '--version', '2', '--json']);
+    expect(published.code, published.stderr).toBe(0);
+    expect(JSON.parse(published.stdout)).toMatchObject({ activeVersion: 2, previousVersion: 1 });
+    const query = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.6', '--lon', '-111.5', '--json']);
+    expect(JSON.parse(query.stdout).version).toBe(2);
+  });
+
   it('`nearveil usage --json` prints the month\'s totals, counting the queries above', () => {
     const run = nearveil(['usage', '--json']);
     expect(run.code, run.stderr).toBe(0);

@@ -53,3 +53,20 @@ describe('nearveil usage arguments', () => {
     expect(await run(['usage', 'extra', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/unexpected argument "extra"/) });
   });
 });
+
+describe('nearveil versions, publish and rollback arguments', () => {
+  it('refuses a missing dataset, a bad version number and flags of another command', async () => {
+    expect(await run(['versions', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --dataset is required/) });
+    expect(await run(['publish', '--dataset', 'pharmacies', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --version is required/) });
+    expect(await run(['publish', '--dataset', 'pharmacies', '--version', '0', '--token', 'nva_x'])).toMatchObject({ code: 2, err: 'nearveil: --version: expected a whole number >= 1, got "0"' });
+    expect(await run(['rollback', '--dataset', 'pharmacies', '--to', 'last', '--token', 'nva_x'])).toMatchObject({ code: 2, err: 'nearveil: --to: expected a whole number >= 1, got "last"' });
+    expect(await run(['rollback', '--dataset', 'pharmacies', '--version', '2', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/--version does not apply here/) });
+  });
+
+  it('lists the commands in help', async () => {
+    const help = await run(['help']);
+    for (const line of ['nearveil versions --dataset SLUG', 'nearveil publish --dataset SLUG --version V', 'nearveil rollback --dataset SLUG', 'nearveil usage [--dataset SLUG] [--month YYYY-MM] [--tenant SLUG]']) {
+      expect(help.out).toContain(line);
+    }
+  });
+});

@@ -1,0 +1,43 @@
+import { and, eq, inArray } from 'drizzle-orm';
+import type { LayoutChoice } from '../../core/build/choose-layout.ts';
+import type { Database } from '../db/client.ts';
+import { versions } from '../db/schema.ts';
+import type { Env } from '../env.ts';
+import { ApiError } from '../http/api-error.ts';
+import type { DatasetRow, VersionRow } from '../datasets/repository.ts';
+import type { BuildMessage } from './build-message.ts';
+
+/** States a build may start from: a new upload, a failed build, or a retired version to serve again. */
+const BUILDABLE = ['draft', 'failed', 'retired'] as const;
+
+/**
+ * Marks the version "building" (stage "queued") and puts a build message on the queue. If the
+ * queue refuses the message the version is marked failed with the reason, never left hanging.
+ */
+export async function queueBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice): Promise<void> {
+  await markQueued(db, dataset, version, layout);
+  const message: BuildMessage = { datasetId: dataset.id, version: version.number, layout };
+  try {
+    await env.BUILDS.send(message);
+  } catch (err) {
+    const reason = `the build could not be queued: ${err instanceof Error ? err.message : String(err)}`;
+    await db
+      .update(versions)
+      .set({ state: 'failed', error: reason })
+      .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number), eq(versions.state, 'building')));
+    throw new ApiError(503, 'build_not_queued', `${reason}; try again`, 'version');
+  }
+}
+
+/** The state change alone (tests use it to drive the queue consumer by hand). */
+export async function markQueued(db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice): Promise<void> {
+  const now = new Date().toISOString();
+  const moved = await db
+    .update(versions)
+    .set({ state: 'building', layout, error: null, buildAttempts: 0, progressStage: 'queued', progressPercent: 0, progressAt: now, retiredAt: null })
+    .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number), inArray(versions.state, [...BUILDABLE])))
+    .returning({ number: versions.number });
+  if (moved.length === 0) {
+    throw new ApiError(409, 'version_state', `version ${version.number} is ${version.state}; only a draft, failed or retired version can be built`, 'version');
+  }
+}

@@ -1,0 +1,74 @@
+import { and, eq } from 'drizzle-orm';
+import { buildVersion } from '../../core/build/build-version.ts';
+import type { LayoutChoice } from '../../core/build/choose-layout.ts';
+import { parseSiteTable } from '../../core/geo/site-table.ts';
+import type { Database } from '../db/client.ts';
+import { versions } from '../db/schema.ts';
+import type { Env } from '../env.ts';
+import type { DatasetRow, VersionRow } from '../datasets/repository.ts';
+import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
+import { writeProgress, type BuildStage } from './progress.ts';
+
+/** Lets a test stop a build at a stage, as if its Worker had died there. */
+export interface BuildHooks {
+  onStage?: (stage: BuildStage) => void | Promise<void>;
+}
+
+/** What the stored matrix looks like, kept on the version row for listings. */
+export interface BuildSummary {
+  layout: 'grid' | 'kd';
+  rows: number;
+  columns: number;
+  ones: number;
+  products: number;
+}
+
+/**
+ * Turns a version in "building" into a stored cell matrix and manifest. Order matters: the
+ * matrix blob is written first (content-addressed, so a rewrite of the same bytes is harmless
+ * and a half-finished build never clobbers a live blob), then the manifest, and only then does
+ * the row say "ready". Throws on any failure and leaves the row to the caller (retry or fail);
+ * nothing here touches another version or the dataset's active pointer.
+ */
+export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice, hooks: BuildHooks = {}): Promise<BuildSummary> {
+  const stage = async (name: BuildStage) => {
+    await writeProgress(db, dataset.id, version.number, name);
+    await hooks.onStage?.(name);
+  };
+  await stage('reading');
+  const csv = await getBlobText(env, version.tableKey);
+  if (csv === null) throw new Error(`site table blob ${version.tableKey} is missing`);
+  const table = parseSiteTable(csv);
+  await stage('building');
+  const built = await buildVersion(table, { dataset: dataset.slug, version: version.number, layout });
+  await stage('writing-matrix');
+  const matrixKey = blobKeys.matrix(built.manifest.contentHash);
+  await putBlob(env, matrixKey, built.matrixBlob);
+  await stage('writing-manifest');
+  const manifestKey = blobKeys.manifest(dataset.id, version.number);
+  await putBlob(env, manifestKey, JSON.stringify(built.manifest));
+  const m = built.manifest.matrix;
+  const summary: BuildSummary = { layout: built.manifest.layout.kind, rows: m.rows, columns: m.columns, ones: m.ones, products: m.plan.products };
+  const done = await db
+    .update(versions)
+    .set({
+      state: 'ready',
+      matrixKey,
+      manifestKey,
+      contentHash: built.manifest.contentHash,
+      summary: JSON.stringify(summary),
+      builtAt: new Date().toISOString(),
+      error: null,
+      progressStage: 'done',
+      progressPercent: 100,
+      progressAt: new Date().toISOString(),
+    })
+    .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number), eq(versions.state, 'building')))
+    .returning({ number: versions.number });
+  if (done.length === 0) throw new Error(`version ${version.number} left "building" while it was built (a stale delivery); not marked ready`);
+  return summary;
+}
+
+export async function sha256Hex(bytes: Uint8Array<ArrayBuffer>): Promise<string> {
+  return [...new Uint8Array(await crypto.subtle.digest('SHA-256', bytes))].map((b) => b.toString(16).padStart(2, '0')).join('');
+}
