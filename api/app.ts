@@ -1,5 +1,6 @@
 import { Hono } from 'hono';
 import { keyRoutes } from './auth/key-routes.ts';
+import { statementRoutes } from './billing/billing-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
@@ -12,6 +13,7 @@ export const app = new Hono<AppBindings>()
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)
+  .route('/v1/admin', statementRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);

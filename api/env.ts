@@ -14,6 +14,8 @@ export interface Env {
   readonly BUILD_RETRY_DELAY_SECONDS?: string;
   /** How long a version that stopped being active still answers queries (default 900 s). */
   readonly VERSION_GRACE_SECONDS?: string;
+  /** ISO 4217 code of the currency tariffs and statements are in (default EUR). */
+  readonly BILLING_CURRENCY?: string;
 }
 
 /** Per-request values set by the credential middleware. */

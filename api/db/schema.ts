@@ -124,3 +124,22 @@ export const rejectionsDaily = sqliteTable(
   },
   (t) => [primaryKey({ columns: [t.credentialId, t.datasetSlug, t.day, t.reason] })],
 );
+
+/**
+ * Tariffs the operator sets per tenant, each from a UTC month on (the newest one not after a
+ * month prices it). Money is integer micro-units (1/1,000,000) of BILLING_CURRENCY.
+ */
+export const tariffs = sqliteTable(
+  'tariffs',
+  {
+    tenantId: text('tenant_id').notNull().references(() => tenants.id),
+    fromMonth: text('from_month').notNull(),
+    queryMicros: integer('query_micros').notNull(),
+    gbMicros: integer('gb_micros').notNull(),
+    millionMultiplicationsMicros: integer('million_multiplications_micros').notNull(),
+    monthlyBaseMicros: integer('monthly_base_micros').notNull(),
+    setAt: text('set_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
+    setBy: text('set_by').notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.tenantId, t.fromMonth] })],
+);
