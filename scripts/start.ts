@@ -1,15 +1,16 @@
 /**
  * `npm start`: runs nearveil locally on its embedded default (wrangler dev with D1 and R2 on
  * disk), listening on 127.0.0.1 only. The first start creates the demo tenant, an admin token,
- * an API key and the invented Harrow Vale dataset, and writes them to .nearveil/.
+ * an API key, the operator and the demo tenant's admin and editor users (random passwords) and
+ * the invented Harrow Vale dataset, and writes the credentials to .nearveil/.
  * Environment: PORT (default 8787), NEARVEIL_STATE (default .wrangler/state), NEARVEIL_HOME.
  */
 import { join, resolve } from 'node:path';
 import { connectAdmin } from '../sdk/admin.ts';
 import { NearveilError } from '../sdk/http.ts';
-import { CREDENTIALS_FILE, nearveilHome, writePrivateJson } from '../sdk/cli/dev-home.ts';
+import { CREDENTIALS_FILE, nearveilHome, readDevCredentials, writePrivateJson } from '../sdk/cli/dev-home.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
-import { DEMO_DATASET, ensureDemoTenant } from './dev/seed.ts';
+import { DEMO_DATASET, ensureDemoTenant, ensureDevUsers } from './dev/seed.ts';
 import { PROJECT_ROOT, startWranglerDev, wrangler } from './dev/wrangler.ts';
 
 const port = Number(process.env.PORT ?? 8787);
@@ -45,8 +46,9 @@ async function ensureDemoDataset(adminToken: string): Promise<void> {
 async function start(): Promise<void> {
   console.log('Applying D1 migrations to the local database...');
   wrangler(['d1', 'migrations', 'apply', 'DB', '--local', '--persist-to', persistTo]);
-  const credentials = ensureDemoTenant(persistTo, home, endpoint);
   const credentialsPath = join(home, CREDENTIALS_FILE);
+  const savedUsers = (readDevCredentials(home).users ?? {}) as Parameters<typeof ensureDevUsers>[1];
+  const credentials = { ...ensureDemoTenant(persistTo, home, endpoint), users: await ensureDevUsers(persistTo, savedUsers) };
   writePrivateJson(credentialsPath, credentials);
 
   const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false']);
@@ -61,7 +63,7 @@ async function start(): Promise<void> {
     [
       '',
       `nearveil is running at ${endpoint} (GET /healthz answers 200).`,
-      `Dev credentials (admin token, API key): ${credentialsPath}`,
+      `Dev credentials (admin token, API key, and sign-ins for the operator, tenant admin and editor): ${credentialsPath}`,
       `Try, in a second terminal:`,
       `  npx nearveil query --dataset ${DEMO_DATASET} --lat 45.62 --lon -111.42 --json`,
       `  npx nearveil import demo/my-sites.csv --dataset pharmacies --publish`,

@@ -7,14 +7,18 @@ import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { jsonBody } from '../http/params.ts';
-import { requireCredential } from './require-credential.ts';
+import { requireRole } from './principal.ts';
 import { hashSecret, newSecret } from './secrets.ts';
 
 const CreateKeyBody = z.object({ label: z.string().trim().min(1).max(100) }).strict();
 
 /** API keys for apps: shown once at creation, stored only as a hash, revocable. */
+/** Only tenant admins (and the operator, naming ?tenant=) make, list and revoke keys. */
+const admin = requireRole('tenant_admin');
+
 export const keyRoutes = new Hono<AppBindings>()
-  .use('*', requireCredential('admin'))
+  .use('/keys', admin)
+  .use('/keys/*', admin)
   .post('/keys', limitBody(4096), async (c) => {
     const body = await jsonBody(c.req.raw, CreateKeyBody);
     const apiKey = newSecret('query');
