@@ -17,6 +17,10 @@ export interface RequestVars {
   principal: import('./auth/principal.ts').Principal;
   /** Set by requireRole: the tenant acted on, or null for an operator acting across tenants. */
   tenantScope: string | null;
+  /** API keys: the dataset slugs the key may read, or null for every dataset of its tenant. */
+  keyScope: readonly string[] | null;
+  /** API keys: answered queries allowed per UTC month, or null for no limit. */
+  monthlyQuota: number | null;
 }
 
 export interface AppBindings {

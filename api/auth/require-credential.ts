@@ -4,6 +4,7 @@ import { database } from '../db/client.ts';
 import { credentials, tenants } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
+import { parseKeyScope } from './key-scope.ts';
 import { hashSecret, SECRET_PREFIX } from './secrets.ts';
 
 export interface CredentialRow {
@@ -11,6 +12,8 @@ export interface CredentialRow {
   tenantId: string;
   tenantSlug: string;
   label: string;
+  datasetScope: string | null;
+  monthlyQuota: number | null;
 }
 
 /**
@@ -27,14 +30,23 @@ export async function bearerCredential(c: Context<AppBindings>, kind: 'admin' | 
     throw new ApiError(403, 'credential_wrong_kind', `this route needs an ${noun} (it starts with ${SECRET_PREFIX[kind]})`, 'authorization');
   }
   const [row] = await database(c.env)
-    .select({ id: credentials.id, tenantId: credentials.tenantId, tenantSlug: tenants.slug, label: credentials.label, revokedAt: credentials.revokedAt })
+    .select({
+      id: credentials.id,
+      tenantId: credentials.tenantId,
+      tenantSlug: tenants.slug,
+      label: credentials.label,
+      revokedAt: credentials.revokedAt,
+      datasetScope: credentials.datasetScope,
+      monthlyQuota: credentials.monthlyQuota,
+    })
     .from(credentials)
     .innerJoin(tenants, eq(tenants.id, credentials.tenantId))
     .where(and(eq(credentials.secretHash, await hashSecret(secret)), eq(credentials.kind, kind)))
     .limit(1);
   if (!row) throw new ApiError(403, 'credential_unknown', `the ${noun} is not known`, 'authorization');
   if (row.revokedAt !== null) throw new ApiError(403, 'credential_revoked', `the ${noun} was revoked at ${row.revokedAt}`, 'authorization');
-  return { id: row.id, tenantId: row.tenantId, tenantSlug: row.tenantSlug, label: row.label };
+  const { revokedAt: _revoked, ...live } = row;
+  return live;
 }
 
 /** Requires a credential of the given kind and puts its tenant and id on the context. */
@@ -43,6 +55,8 @@ export function requireCredential(kind: 'admin' | 'query'): MiddlewareHandler<Ap
     const row = await bearerCredential(c, kind);
     c.set('tenantId', row.tenantId);
     c.set('credentialId', row.id);
+    c.set('keyScope', parseKeyScope(row.datasetScope));
+    c.set('monthlyQuota', row.monthlyQuota);
     await next();
   };
 }
