@@ -1,6 +1,8 @@
 import { Hono } from 'hono';
 import { keyRoutes } from './auth/key-routes.ts';
+import { sessionRoutes } from './auth/session-routes.ts';
 import { statementRoutes } from './billing/billing-routes.ts';
+import { tariffRoutes } from './billing/tariff-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
@@ -10,10 +12,12 @@ import { publicRoutes } from './query/public-routes.ts';
 /** The whole HTTP surface; routes live in their feature folders. */
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
+  .route('/v1', sessionRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)
   .route('/v1/admin', statementRoutes)
+  .route('/v1/operator', tariffRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);

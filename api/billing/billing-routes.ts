@@ -1,6 +1,6 @@
 import { Hono } from 'hono';
 import { z } from 'zod';
-import { requireCredential } from '../auth/require-credential.ts';
+import { requireRole } from '../auth/principal.ts';
 import { tenantInScope } from '../auth/tenant-scope.ts';
 import { database } from '../db/client.ts';
 import type { AppBindings, Env } from '../env.ts';
@@ -20,7 +20,7 @@ export function billingCurrency(env: Env): string {
 const MonthPath = z.string().regex(MONTH_PATTERN, 'expected a month as YYYY-MM');
 
 /** `GET /v1/admin/statements/:month` (JSON, or CSV with ?format=csv): the tenant's monthly statement. */
-export const statementRoutes = new Hono<AppBindings>().use('/statements/*', requireCredential('admin')).get('/statements/:month', async (c) => {
+export const statementRoutes = new Hono<AppBindings>().use('/statements/*', requireRole('tenant_admin')).get('/statements/:month', async (c) => {
   const month = c.req.param('month');
   const parsed = MonthPath.safeParse(month);
   if (!parsed.success) throw new ApiError(400, 'invalid_month', `month: expected a month as YYYY-MM, got "${month}"`, 'month');

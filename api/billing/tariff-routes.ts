@@ -1,6 +1,7 @@
 import { eq } from 'drizzle-orm';
 import { Hono, type Context } from 'hono';
 import { z } from 'zod';
+import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { tenants } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
@@ -9,7 +10,6 @@ import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug } from '../http/params.ts';
 import { MONTH_PATTERN, utcMonth } from '../metering/calendar.ts';
 import { billingCurrency } from './billing-routes.ts';
-import { operatorOnly } from './guards.ts';
 import { setTariff, tariffHistory } from './tariffs.ts';
 
 /** A price in micro-units: whole, not negative, at most one million currency units. */
@@ -35,7 +35,7 @@ async function tenantBySlug(c: Context<AppBindings>) {
 
 /** The operator's tariff routes: `PUT` and `GET /v1/operator/tenants/:tenant/tariff`. */
 export const tariffRoutes = new Hono<AppBindings>()
-  .use('/tenants/:tenant/tariff', operatorOnly())
+  .use('/tenants/:tenant/tariff', requireRole('operator'))
   .put('/tenants/:tenant/tariff', limitBody(4096), async (c) => {
     const tenant = await tenantBySlug(c);
     const body = await jsonBody(c.req.raw, TariffBody);
@@ -53,5 +53,5 @@ export const tariffRoutes = new Hono<AppBindings>()
   });
 
 function operatorLabel(c: Context<AppBindings>): string {
-  return c.var.credentialId ?? 'operator';
+  return c.var.principal.label;
 }

@@ -6,6 +6,7 @@ import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
 import { adminRequest, appRequest, createTestTenant, publishDataset, type TestTenant } from './tenant-fixture.ts';
 import { tinyZipCsv } from './open-data-sites.ts';
+import { createTestUser, jsonRequest, sessionRequest, signIn } from './user-fixture.ts';
 
 interface StatementBody {
   tenant: string;
@@ -121,6 +122,32 @@ describe('monthly statements: tariffs applied to the daily counts', () => {
     expect(s.totalMicros).toBe(7_723_200);
     expect(s.total).toBe('7.723200 EUR');
     expect(s.days.map((d) => d.day)).toEqual(['2025-10-01', '2025-10-31']);
+  });
+
+  it('only the operator sets tariffs; they start this month or later and price statements from then on', async () => {
+    const tenant = await createTestTenant();
+    const slug = (await env.DB.prepare('SELECT slug FROM tenants WHERE id = ?').bind(tenant.tenantId).first<{ slug: string }>())!.slug;
+    const path = `/v1/operator/tenants/${slug}/tariff`;
+    const prices = { queryMicros: 1_000, gbMicros: 50_000, millionMultiplicationsMicros: 3_000, monthlyBaseMicros: 10_000_000 };
+    const byAdmin = await adminRequest(tenant, 'PUT', path, JSON.stringify(prices), 'application/json');
+    expect(byAdmin.status).toBe(403);
+    const operator = await signIn(await createTestUser(null, 'operator'));
+    const set = await jsonRequest(operator, 'PUT', path, prices);
+    expect(set.status).toBe(200);
+    expect(await set.json()).toMatchObject({ tenant: slug, currency: 'EUR', tariff: { ...prices, fromMonth: month } });
+    for (const [body, field] of [[{ ...prices, fromMonth: '2001-01' }, 'fromMonth'], [{ ...prices, queryMicros: 1.5 }, 'queryMicros'], [{ ...prices, gbMicros: -1 }, 'gbMicros'], [{ queryMicros: 1 }, 'gbMicros']] as const) {
+      const bad = await jsonRequest(operator, 'PUT', path, body);
+      expect(bad.status).toBe(400);
+      expect(await bad.json()).toMatchObject({ error: { field } });
+    }
+    expect((await jsonRequest(operator, 'PUT', '/v1/operator/tenants/no-such-tenant/tariff', prices)).status).toBe(404);
+    const history = (await (await sessionRequest(operator, 'GET', path)).json()) as { tariffs: Array<{ fromMonth: string }> };
+    expect(history.tariffs.map((x) => x.fromMonth)).toEqual([month]);
+    const statement = await adminRequest(tenant, 'GET', `/v1/admin/statements/${month}`);
+    expect(statement.status).toBe(200);
+    expect(((await statement.json()) as StatementBody).totalMicros).toBe(10_000_000);
+    const asOperator = await sessionRequest(operator, 'GET', `/v1/admin/statements/${month}?tenant=${slug}`);
+    expect(((await asOperator.json()) as StatementBody).tenant).toBe(slug);
   });
 
   it('rounds each line half up once, in exact integer arithmetic', () => {
