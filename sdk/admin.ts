@@ -106,9 +106,11 @@ export function connectAdmin(options: AdminOptions) {
         await new Promise((r) => setTimeout(r, wait.pollMs ?? 500));
         let info: VersionInfo;
         try {
-          info = await json<VersionInfo>('GET', versionPath(dataset, version));
+          // Each poll gives up after 10 s: a local runtime restarting after a long build may drop it.
+          const response = await send(http, 'GET', versionPath(dataset, version), undefined, undefined, AbortSignal.timeout(10_000));
+          info = (await response.json()) as VersionInfo;
         } catch (err) {
-          // A local runtime may restart after a long build (503) or be briefly unreachable: poll on.
+          // Restarting (503), briefly unreachable or a dropped poll: poll on until the deadline.
           if (err instanceof NearveilError && (err.status === 503 || err.status === 0) && Date.now() < until) continue;
           throw err;
         }

@@ -25,11 +25,11 @@ export interface HttpOptions {
 }
 
 /** Sends one request with the bearer secret; any non-2xx answer becomes a NearveilError. */
-export async function send(options: HttpOptions, method: string, path: string, body?: BodyInit, contentType?: string): Promise<Response> {
+export async function send(options: HttpOptions, method: string, path: string, body?: BodyInit, contentType?: string, signal?: AbortSignal): Promise<Response> {
   const url = new URL(path, options.endpoint.endsWith('/') ? options.endpoint : options.endpoint + '/');
   const headers: Record<string, string> = { authorization: `Bearer ${options.secret}` };
   if (contentType) headers['content-type'] = contentType;
-  const request = new Request(url, { method, headers, ...(body === undefined ? {} : { body }) });
+  const request = new Request(url, { method, headers, ...(body === undefined ? {} : { body }), ...(signal ? { signal } : {}) });
   let response: Response;
   try {
     response = await (options.fetch ?? fetch)(request);
