@@ -1,5 +1,6 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
+import { createServer, type AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -15,7 +16,18 @@ import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const PORT = 8797;
+/** A port the OS has free right now: a fixed one collides with other checkouts running this test at once. */
+async function freePort(): Promise<number> {
+  return new Promise((resolve, reject) => {
+    const probe = createServer();
+    probe.once('error', reject);
+    probe.listen(0, '127.0.0.1', () => {
+      const { port } = probe.address() as AddressInfo;
+      probe.close(() => resolve(port));
+    });
+  });
+}
+const PORT = await freePort();
 const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
 const env = { ...process.env, PORT: String(PORT), NEARVEIL_STATE: join(scratch, 'state'), NEARVEIL_HOME: join(scratch, 'home') };
 let server: ChildProcess;
