@@ -1,3 +1,4 @@
+import type { LayoutChoice } from '../core/build/choose-layout.ts';
 import { NearveilError, send, type FetchLike } from './http.ts';
 
 export interface AdminOptions {
@@ -16,7 +17,7 @@ export interface VersionInfo {
   /** While building: the stage and the percent of the whole build reached. */
   progress: { stage: string; percent: number } | null;
   error: string | null;
-  layout: 'grid' | 'kd' | null;
+  layout: 'grid' | 'kd' | 'veiled' | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
   createdAt: string;
   builtAt: string | null;
@@ -99,7 +100,7 @@ export function connectAdmin(options: AdminOptions) {
      * Queues a build and waits until the version is ready (throws `build_failed` if it failed).
      * layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper.
      */
-    async build(dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto', wait: BuildWaitOptions = {}): Promise<VersionInfo & { matrix: NonNullable<VersionInfo['matrix']> }> {
+    async build(dataset: string, version: number, layout: LayoutChoice = 'auto', wait: BuildWaitOptions = {}): Promise<VersionInfo & { matrix: NonNullable<VersionInfo['matrix']> }> {
       await json<VersionInfo>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`);
       const until = Date.now() + (wait.timeoutMs ?? 15 * 60_000);
       for (;;) {

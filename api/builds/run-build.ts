@@ -16,7 +16,7 @@ export interface BuildHooks {
 
 /** What the stored matrix looks like, kept on the version row for listings. */
 export interface BuildSummary {
-  layout: 'grid' | 'kd';
+  layout: 'grid' | 'kd' | 'veiled';
   rows: number;
   columns: number;
   ones: number;
@@ -44,6 +44,8 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   await stage('writing-matrix');
   const matrixKey = blobKeys.matrix(built.manifest.contentHash);
   await putBlob(env, matrixKey, built.matrixBlob);
+  // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
+  if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
   await stage('writing-manifest');
   const manifestKey = blobKeys.manifest(dataset.id, version.number);
   await putBlob(env, manifestKey, JSON.stringify(built.manifest));
