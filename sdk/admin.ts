@@ -38,8 +38,8 @@ export function connectAdmin(options: AdminOptions) {
       return (await response.json()) as VersionInfo;
     },
     /** layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper. */
-    build: (dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto') =>
-      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`),
+    build: (dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto', maxK = 1) =>
+      json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build?layout=${layout}&maxK=${maxK}`),
     publish: (dataset: string, version: number) =>
       json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),
     versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),

@@ -1,6 +1,6 @@
 import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
 import { locateRegion } from '../core/geo/locate.ts';
-import { ManifestSchema, type Manifest } from '../core/geo/manifest.ts';
+import { ManifestSchema, MAX_K, type Manifest } from '../core/geo/manifest.ts';
 import { decodeRows } from '../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
 import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
@@ -46,8 +46,13 @@ export interface NearestResult {
   cost: QueryCost;
 }
 
+export interface NearestOptions {
+  /** How many sites, nearest first (default 1); at most the dataset's maxK (see its manifest). */
+  k?: number;
+}
+
 export interface NearveilClient {
-  nearest(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult>;
+  nearest(dataset: string, point: { lat: number; lon: number }, options?: NearestOptions): Promise<NearestResult>;
   manifest(dataset: string): Promise<Manifest>;
   keyPair(): Promise<PirKeyPair>;
 }
@@ -67,8 +72,11 @@ export function connect(options: ConnectOptions): NearveilClient {
     return ManifestSchema.parse(await response.json());
   }
 
-  async function nearestOnce(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult> {
+  async function nearestOnce(dataset: string, point: { lat: number; lon: number }, k: number): Promise<NearestResult> {
     const m = await manifest(dataset);
+    if (k > m.maxK) {
+      throw new NearveilError(0, 'k_too_large', `dataset "${dataset}" version ${m.version} is built for up to ${m.maxK} nearest, not ${k} (rebuild with a larger maxK)`);
+    }
     if (!(m.modulusBits as readonly number[]).includes(modulusBits)) {
       throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
     }
@@ -86,7 +94,8 @@ export function connect(options: ConnectOptions): NearveilClient {
       throw new NearveilError(0, 'answer_shape', `answer has ${rows.length} rows, manifest says ${m.matrix.rows}`);
     }
     const bits = decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount);
-    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, 1);
+    // Exact: the region's list holds every site among the maxK nearest of any of its points.
+    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, k);
     const clientMs = t1 - t0 + (performance.now() - t2);
     return {
       dataset,
@@ -108,12 +117,14 @@ export function connect(options: ConnectOptions): NearveilClient {
   return {
     manifest,
     keyPair,
-    async nearest(dataset, point) {
+    async nearest(dataset, point, options = {}) {
+      const k = options.k ?? 1;
+      if (!Number.isSafeInteger(k) || k < 1 || k > MAX_K) throw new RangeError(`nearest: expected k in 1..${MAX_K}, got ${options.k}`);
       try {
-        return await nearestOnce(dataset, point);
+        return await nearestOnce(dataset, point, k);
       } catch (err) {
         // A version published between our manifest read and our query: read again, once.
-        if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point);
+        if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point, k);
         throw err;
       }
     },

@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
+import { MAX_K } from '../../core/geo/manifest.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { requireCredential } from '../auth/require-credential.ts';
 import { database } from '../db/client.ts';
@@ -62,7 +63,8 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
       throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
     }
-    const manifest = await runBuild(c.env, db, dataset, version, layout);
+    const maxK = buildMaxK(c.req.query('maxK'));
+    const manifest = await runBuild(c.env, db, dataset, version, layout, maxK);
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
   })
   .post('/datasets/:dataset/versions/:version/publish', async (c) => {
@@ -100,4 +102,12 @@ function versionView(row: VersionRow) {
     builtAt: row.builtAt,
     publishedAt: row.publishedAt,
   };
+}
+
+/** The build's `maxK` query parameter: k nearest served, a whole number 1..MAX_K (default 1). */
+function buildMaxK(value: string | undefined): number {
+  if (value === undefined) return 1;
+  const n = Number(value);
+  if (!/^\d+$/.test(value) || n < 1 || n > MAX_K) throw new ApiError(400, 'invalid_max_k', `maxK: expected a whole number from 1 to ${MAX_K}, got "${value}"`, 'maxK');
+  return n;
 }

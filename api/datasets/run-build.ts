@@ -14,14 +14,14 @@ import { moveVersionState, type DatasetRow, type VersionRow } from './repository
  * (matrix content-addressed, then the manifest); only then does the row say "ready". A failure
  * marks the version "failed" with its reason and never touches the active version.
  */
-export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice = 'auto'): Promise<Manifest> {
+export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice = 'auto', maxK = 1): Promise<Manifest> {
   if (!(await moveVersionState(db, version, ['draft', 'failed'], 'building', { error: null }))) {
     throw new ApiError(409, 'version_state', `version ${version.number} is ${version.state}; only a draft or failed version can be built`, 'version');
   }
   try {
     const csv = await getBlobText(env, version.tableKey);
     if (csv === null) throw new Error(`site table blob ${version.tableKey} is missing`);
-    const built = await buildVersion(parseSiteTable(csv), { dataset: dataset.slug, version: version.number, layout });
+    const built = await buildVersion(parseSiteTable(csv), { dataset: dataset.slug, version: version.number, layout, maxK });
     const matrixKey = blobKeys.matrix(built.manifest.contentHash);
     const manifestKey = blobKeys.manifest(dataset.id, version.number);
     await putBlob(env, matrixKey, built.matrixBlob);

@@ -6,7 +6,7 @@ import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
-import type { PlanRecord } from '../geo/manifest.ts';
+import { MAX_K, regionCount, type PlanRecord } from '../geo/manifest.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
@@ -16,25 +16,48 @@ export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
-  stats: { regions: number; maxList: number; meanList: number; buildMs: number };
+  /** `listLengths[n]`: regions whose candidate list holds n sites (before padding). */
+  stats: { regions: number; maxList: number; meanList: number; listLengths: number[]; buildMs: number };
   /** Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
-  layoutsTried: Array<{ label: string; kind: 'grid' | 'kd'; regions: number; maxList: number; chosen: boolean; cost: ShapeCost }>;
+  layoutsTried: Array<{ label: string; kind: 'grid' | 'kd'; regions: number; maxList: number; chosen: boolean; cost: ShapeCost; bound: boolean }>;
 }
 
 /** Moduli a client may use against this version (see the design's protocol section). */
 const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
 
+
 /**
- * Builds one version of a site table: quantised coordinates, a grid layout with exact candidate
- * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
+ * Mining column sets (mined-plan.ts) grows faster than the matrix; past this many bits it takes
+ * longer than the rest of the build together, and the server would have to mine again. Larger
+ * matrices weigh plain and blocked plans only.
+ */
+export const MINE_LIMIT_BITS = 4_000_000;
+
+/** Where a build is: stage name and overall percent (0-100, never decreasing). */
+export interface BuildProgress {
+  stage: 'regions' | 'matrix' | 'plan' | 'hash' | 'done';
+  percent: number;
+}
+
+export interface BuildOptions {
+  /** Called as the build moves on; a returned promise is awaited between stages (never inside one). */
+  onProgress?: (p: BuildProgress) => void | Promise<void>;
+}
+
+/**
+ * Builds one version of a site table: quantised coordinates, a region layout with exact candidate
+ * lists (every site among the k nearest of some point of the region, k = meta.maxK, default 1),
+ * the packed cell matrix, its stored form and the manifest.
  * Deterministic: the same table and meta give the same blob, hash and manifest; only
  * stats.buildMs varies. Site index = position in `table.sites`.
+ * Progress goes to options.onProgress: stage "regions" up to 80%, "matrix", "plan", "hash", "done".
  * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
  * ManifestSchema before it is returned.
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; maxK?: number },
+  options: BuildOptions = {},
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -45,6 +68,14 @@ export async function buildVersion(
   if (!Number.isSafeInteger(meta.version) || meta.version < 1) {
     throw new RangeError(`buildVersion: expected version >= 1, got ${meta.version}`);
   }
+  const maxK = meta.maxK ?? 1;
+  if (!Number.isSafeInteger(maxK) || maxK < 1 || maxK > MAX_K) throw new RangeError(`buildVersion: expected maxK in 1..${MAX_K}, got ${meta.maxK}`);
+  let percent = 0;
+  const report = (stage: BuildProgress['stage'], at: number) => {
+    percent = Math.max(percent, Math.min(100, Math.round(at * 10) / 10));
+    return options.onProgress?.({ stage, percent });
+  };
+  await report('regions', 0);
   const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
   const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
@@ -52,11 +83,17 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto');
+  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
+    k: maxK,
+    onProgress: (share) => void report('regions', 80 * share),
+  });
+  await report('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
-  const planned = choosePlan(matrix);
+  await report('plan', 85);
+  const planned = choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS });
+  await report('hash', 97);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,
@@ -66,6 +103,7 @@ export async function buildVersion(
     contentHash: await sha256Hex(matrixBlob),
     modulusBits: MODULUS_BITS,
     layout: choice.layout,
+    maxK,
     record,
     matrix: {
       rows: matrix.rows,
@@ -77,6 +115,7 @@ export async function buildVersion(
     siteIds: table.sites.map((s) => s.id),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
+  await report('done', 100);
   return {
     manifest,
     matrix,
@@ -85,17 +124,25 @@ export async function buildVersion(
       regions: choice.lists.length,
       maxList: record.slotsPerRegion,
       meanList: total / choice.lists.length,
+      listLengths: lengthCounts(choice.lists),
       buildMs: performance.now() - started,
     },
     layoutsTried: tried.map((g: LayoutCandidate) => ({
       label: g.label,
       kind: g.layout.kind,
-      regions: g.lists.length,
+      regions: regionCount(g.layout),
       maxList: g.slotsPerRegion,
       chosen: g === choice,
       cost: g.cost,
+      bound: g.bound,
     })),
   };
+}
+
+function lengthCounts(lists: readonly Int32Array[]): number[] {
+  const counts: number[] = [];
+  for (const l of lists) counts[l.length] = (counts[l.length] ?? 0) + 1;
+  return Array.from(counts, (c) => c ?? 0);
 }
 
 function popcount(x: number): number {

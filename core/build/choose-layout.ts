@@ -1,5 +1,5 @@
 import { siteBox, widestLongitudeGap } from '../geo/bounding-box.ts';
-import type { GridLayout } from '../geo/grid.ts';
+import { gridRegion, type GridLayout } from '../geo/grid.ts';
 import { buildKdLayout } from '../geo/kd-layout.ts';
 import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
@@ -19,11 +19,18 @@ export type LayoutChoice = 'auto' | 'grid' | 'adaptive';
 export interface LayoutCandidate {
   readonly label: string;
   readonly layout: Layout;
-  readonly lists: Int32Array[];
+  /** Candidate lists, or null when the layout was only bounded (see `bound`). */
+  readonly lists: Int32Array[] | null;
   readonly slotsPerRegion: number;
   readonly packing: Packing;
   /** One query's cost by the cost model, with plain products estimated from the lists. */
   readonly cost: ShapeCost;
+  /**
+   * True when the lists were not built because a lower bound of the cost (lists at least as long
+   * as the most sites inside one cell, every site listed at least once) already lost: then
+   * `slotsPerRegion` and `cost` are those lower bounds.
+   */
+  readonly bound: boolean;
 }
 
 /**
@@ -38,18 +45,33 @@ export function chooseLayout(
   slotBits: number,
   siteOnes: Int32Array,
   choice: LayoutChoice = 'auto',
-): { chosen: LayoutCandidate; tried: LayoutCandidate[] } {
+  options: { k?: number; onProgress?: (share: number) => void } = {},
+): { chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] } {
   const n = points.lats.length;
+  const k = options.k ?? 1;
   const tried: LayoutCandidate[] = [];
-  const weigh = (label: string, layout: Layout, lists: Int32Array[]) => {
-    const slotsPerRegion = Math.max(1, ...lists.map((l) => l.length));
+  const costed = (label: string, layout: Layout, regions: number, slotsPerRegion: number, ones: number, lists: Int32Array[] | null): LayoutCandidate => {
     const regionBits = slotsPerRegion * slotBits;
+    const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
+    const pack = choosePacking(regions, regionBits, costOf);
+    const cost = shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits);
+    return { label, layout, lists, slotsPerRegion, packing: pack, cost, bound: lists === null };
+  };
+  const weigh = (label: string, layout: Layout, lists: Int32Array[]) => {
     let ones = 0;
     for (const list of lists) for (const s of list) ones += siteOnes[s]!;
-    const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
-    const pack = choosePacking(lists.length, regionBits, costOf);
-    tried.push({ label, layout, lists, slotsPerRegion, packing: pack, cost: shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits) });
+    tried.push(costed(label, layout, lists.length, Math.max(1, ...lists.map((l) => l.length)), ones, lists));
   };
+  // Lower bound of a layout's 1-bits: every site is listed once, and every region lists k sites.
+  let allOnes = 0;
+  for (const o of siteOnes) allOnes += o;
+  const fewestOnes = Int32Array.from(siteOnes).sort().slice(0, k).reduce((sum, o) => sum + o, 0);
+  const onesAtLeast = (regions: number) => Math.max(allOnes, regions * fewestOnes);
+  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (!c.bound && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  // Lists grow with k: the adaptive targets scale with (k + 1) / 2 (8 and 16 for k = 1).
+  const base = Math.round((ADAPTIVE_TARGET * (k + 1)) / 2);
+  const targets = choice === 'grid' ? [] : n <= 5000 ? [base, 2 * base] : [2 * base];
+  const grids: GridLayout[] = [];
   if (choice !== 'adaptive') {
     const box = siteBox(points.lats, points.lons);
     const seen = new Set<string>();
@@ -57,18 +79,44 @@ export function chooseLayout(
       const { rows, cols } = gridShape(box, Math.max(1, Math.round(n * share)));
       if (seen.has(`${rows}x${cols}`)) continue;
       seen.add(`${rows}x${cols}`);
-      const layout: GridLayout = { kind: 'grid', ...box, rows, cols };
-      weigh(`grid ${rows} x ${cols}`, layout, gridCandidateLists(points, layout));
+      grids.push({ kind: 'grid', ...box, rows, cols });
     }
   }
-  if (choice !== 'grid') {
+  // Progress: a grid counts one share, an adaptive layout (slower) three. Adaptive layouts go
+  // first: a grid whose lower bound already loses to the best so far is not built.
+  const shares = grids.length + 3 * targets.length;
+  let done = 0;
+  const step = (weight: number) => (share: number) => options.onProgress?.((done + weight * share) / shares);
+  if (targets.length > 0) {
     const { start, gap } = widestLongitudeGap(points.lons);
     const seam = start - gap / 2;
-    for (const target of n <= 5000 ? [ADAPTIVE_TARGET, 2 * ADAPTIVE_TARGET] : [2 * ADAPTIVE_TARGET]) {
-      const { layout, lists } = buildKdLayout(points, seam, target);
+    for (const target of targets) {
+      const { layout, lists } = buildKdLayout(points, seam, target, { k, onProgress: step(3) });
       weigh(`adaptive, lists <= ${target}`, layout, lists);
+      done += 3;
     }
   }
-  const chosen = tried.reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
-  return { chosen, tried };
+  for (const layout of grids) {
+    const label = `grid ${layout.rows} x ${layout.cols}`;
+    const regions = layout.rows * layout.cols + 1;
+    const lower = costed(label, layout, regions, Math.max(Math.min(k, n), mostInOneCell(points, layout)), onesAtLeast(regions), null);
+    const leader = best();
+    if (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total) tried.push(lower);
+    else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
+    done += 1;
+  }
+  const chosen = best();
+  if (chosen === null || chosen.lists === null) throw new Error('chooseLayout: no layout was built');
+  return { chosen: chosen as LayoutCandidate & { lists: Int32Array[] }, tried };
+}
+
+/** The most sites inside one cell of a grid: every list is at least this long. */
+function mostInOneCell(points: SitePoints, g: GridLayout): number {
+  const counts = new Int32Array(g.rows * g.cols + 1);
+  let most = 1;
+  for (let s = 0; s < points.lats.length; s++) {
+    const c = ++counts[gridRegion(g, points.lats[s]!, points.lons[s]!)]!;
+    if (c > most) most = c;
+  }
+  return most;
 }

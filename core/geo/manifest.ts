@@ -8,6 +8,9 @@ import { LAT_BITS, LON_BITS } from './quantise.ts';
  */
 const count = z.number().int().min(1).max(2 ** 32 - 1);
 
+/** Largest k a build serves (k nearest sites); lists grow with k. */
+export const MAX_K = 8;
+
 export const GridLayoutSchema = z
   .object({
     kind: z.literal('grid'),
@@ -86,6 +89,8 @@ export const ManifestSchema = z
     contentHash: z.string().regex(/^[0-9a-f]{64}$/),
     modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
     layout: LayoutSchema,
+    /** Largest k the candidate lists serve (k nearest); absent in older manifests, meaning 1. */
+    maxK: z.number().int().min(1).max(MAX_K).default(1),
     record: RecordSchema,
     matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
     siteIds: z.array(z.string().min(1)),

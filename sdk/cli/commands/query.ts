@@ -1,13 +1,15 @@
 import { connect, type NearestResult } from '../../client.ts';
 import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
 import { loadOrCreateKeyPair } from '../key-store.ts';
-import { connectionOptions, degrees, parseCommand, requireString, resolveConnection } from '../options.ts';
+import { MAX_K } from '../../../core/geo/manifest.ts';
+import { connectionOptions, degrees, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 
-export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--json]
+export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--k K] [--json]
   Finds the exact nearest site through the private protocol: the server answers an encrypted
   column query and never learns the point.
   --dataset SLUG     dataset to ask (the demo dataset is named in .nearveil/dev-credentials.json)
   --lat, --lon DEG   the point, in decimal degrees (WGS 84)
+  --k K              the K nearest sites, nearest first (1 to the dataset's build maxK; default 1)
   --json             print one JSON object
   --endpoint URL, --api-key KEY   override the dev credentials`;
 
@@ -17,15 +19,17 @@ export async function queryCommand(args: string[], print: (line: string) => void
     dataset: { type: 'string' },
     lat: { type: 'string' },
     lon: { type: 'string' },
+    k: { type: 'string' },
   });
   if (values.help) return print(QUERY_HELP);
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to ask');
   const lat = degrees(values.lat, '--lat', -90, 90);
   const lon = degrees(values.lon, '--lon', -180, 180);
+  const k = integerFlag(values.k, '--k', 1, MAX_K, 1);
   const conn = resolveConnection(values);
   const apiKey = requireString(conn.apiKey, '--api-key', 'pass one, or run `npm start` once to write dev credentials');
   const keyPair = await loadOrCreateKeyPair(conn.home, DEFAULT_MODULUS_BITS);
-  const result = await connect({ endpoint: conn.endpoint, apiKey, keyPair }).nearest(dataset, { lat, lon });
+  const result = await connect({ endpoint: conn.endpoint, apiKey, keyPair }).nearest(dataset, { lat, lon }, { k });
   print(values.json ? JSON.stringify(jsonView(result)) : textView(result));
 }
 
@@ -40,9 +44,9 @@ function jsonView(r: NearestResult) {
 
 function textView(r: NearestResult): string {
   const c = r.cost;
-  const lines = [`Nearest site in ${r.dataset} (version ${r.version}):`];
-  for (const s of r.results) {
-    lines.push(`  ${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
+  const lines = [r.results.length === 1 ? `Nearest site in ${r.dataset} (version ${r.version}):` : `${r.results.length} nearest sites in ${r.dataset} (version ${r.version}), nearest first:`];
+  for (const [i, s] of r.results.entries()) {
+    lines.push(`  ${r.results.length === 1 ? '' : `${i + 1}. `}${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
   }
   lines.push(
     `Cost: ${c.modulusBits}-bit key, matrix ${c.rows} x ${c.columns}, ${kib(c.bytesUp)} up, ${kib(c.bytesDown)} down, ` +
