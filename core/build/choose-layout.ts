@@ -111,7 +111,7 @@ export function chooseLayout(
 }
 
 /** The most sites inside one cell of a grid: every list is at least this long. */
-function mostInOneCell(points: SitePoints, g: GridLayout): number {
+export function mostInOneCell(points: SitePoints, g: GridLayout): number {
   const counts = new Int32Array(g.rows * g.cols + 1);
   let most = 1;
   for (let s = 0; s < points.lats.length; s++) {
