@@ -69,7 +69,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const maxK = buildMaxK(c.req.query('maxK'));
     const manifest = await runBuild(c.env, db, dataset, version, layout, maxK);
-    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
+    return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, maxK: manifest.maxK, matrix: manifest.matrix });
   })
   .post('/datasets/:dataset/versions/:version/publish', requireRole('tenant_admin'), async (c) => {
     const db = database(c.env);

@@ -1,5 +1,7 @@
 import { siteBox, widestLongitudeGap } from '../geo/bounding-box.ts';
-import { gridRegion, type GridLayout } from '../geo/grid.ts';
+import { unitVector } from '../geo/distance.ts';
+import { gridRegion, latEdge, lonEdge, type GridLayout } from '../geo/grid.ts';
+import { nearestChord2, pointsWithin } from '../geo/kd-tree.ts';
 import { buildKdLayout } from '../geo/kd-layout.ts';
 import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
@@ -99,7 +101,8 @@ export function chooseLayout(
   for (const layout of grids) {
     const label = `grid ${layout.rows} x ${layout.cols}`;
     const regions = layout.rows * layout.cols + 1;
-    const lower = costed(label, layout, regions, Math.max(Math.min(k, n), mostInOneCell(points, layout)), onesAtLeast(regions), null);
+    const seen = gridListBounds(points, layout, siteOnes);
+    const lower = costed(label, layout, regions, Math.max(Math.min(k, n), seen.longest), Math.max(seen.ones, onesAtLeast(regions)), null);
     const leader = best();
     if (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total) tried.push(lower);
     else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
@@ -108,6 +111,57 @@ export function chooseLayout(
   const chosen = best();
   if (chosen === null || chosen.lists === null) throw new Error('chooseLayout: no layout was built');
   return { chosen: chosen as LayoutCandidate & { lists: Int32Array[] }, tried };
+}
+
+/**
+ * Lower bounds of a grid's lists without resolving any boundary: a cell lists at least every
+ * site inside it and the sites at the nearest place to each of its four corners (no site is
+ * strictly nearer to the corner than those, so they are needed for every k). Returns the longest
+ * such list and the 1-bits of all of them (the outside region counted empty).
+ */
+export function gridListBounds(points: SitePoints, g: GridLayout, siteOnes: Int32Array): { longest: number; ones: number } {
+  const cells = g.rows * g.cols;
+  // Places inside each cell, by counting sort.
+  const cellOf = new Int32Array(points.sitesAt.length);
+  const start = new Int32Array(cells + 2);
+  points.sitesAt.forEach((sites, at) => {
+    const c = gridRegion(g, points.lats[sites[0]!]!, points.lons[sites[0]!]!);
+    cellOf[at] = c;
+    start[c + 1]!++;
+  });
+  for (let c = 0; c <= cells; c++) start[c + 1]! += start[c]!;
+  const order = new Int32Array(points.sitesAt.length);
+  const fill = start.slice();
+  for (let at = 0; at < cellOf.length; at++) order[fill[cellOf[at]!]!++] = at;
+  // The nearest place to every corner.
+  const corner = new Int32Array((g.rows + 1) * (g.cols + 1));
+  const found: number[] = [];
+  for (let i = 0; i <= g.rows; i++) {
+    for (let j = 0; j <= g.cols; j++) {
+      const [x, y, z] = unitVector(latEdge(g, i), lonEdge(g, j));
+      found.length = 0;
+      pointsWithin(points.tree, x, y, z, nearestChord2(points.tree, x, y, z), found, 0);
+      corner[i * (g.cols + 1) + j] = found[0]!;
+    }
+  }
+  const placeOnes = points.sitesAt.map((sites) => sites.reduce((sum, s) => sum + siteOnes[s]!, 0));
+  const stamp = new Int32Array(points.sitesAt.length);
+  let longest = 0;
+  let ones = 0;
+  for (let c = 0; c < cells; c++) {
+    const [i, j] = [Math.floor(c / g.cols), c % g.cols];
+    let sites = 0;
+    const add = (at: number) => {
+      if (stamp[at] === c + 1) return;
+      stamp[at] = c + 1;
+      sites += points.sitesAt[at]!.length;
+      ones += placeOnes[at]!;
+    };
+    for (let o = start[c]!; o < start[c + 1]!; o++) add(order[o]!);
+    for (const [di, dj] of [[0, 0], [0, 1], [1, 0], [1, 1]] as const) add(corner[(i + di) * (g.cols + 1) + j + dj]!);
+    longest = Math.max(longest, sites);
+  }
+  return { longest, ones };
 }
 
 /** The most sites inside one cell of a grid: every list is at least this long. */
