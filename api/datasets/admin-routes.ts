@@ -2,6 +2,7 @@ import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { MAX_K } from '../../core/geo/manifest.ts';
+import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
@@ -64,10 +65,11 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
     const layout = c.req.query('layout') ?? 'auto';
-    if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
-      throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
+    if (!isLayoutChoice(layout)) {
+      throw new ApiError(400, 'invalid_layout', `layout: expected ${LAYOUT_CHOICES.join(', ')}, got "${layout}"`, 'layout');
     }
     const maxK = buildMaxK(c.req.query('maxK'));
+    if (layout === 'veiled' && maxK > 1) throw new ApiError(400, 'invalid_max_k', `maxK: the veiled layout serves the nearest site only (maxK 1), got ${maxK}`, 'maxK');
     const manifest = await runBuild(c.env, db, dataset, version, layout, maxK);
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, maxK: manifest.maxK, matrix: manifest.matrix });
   })
@@ -115,3 +117,4 @@ function buildMaxK(value: string | undefined): number {
   if (!/^\d+$/.test(value) || n < 1 || n > MAX_K) throw new ApiError(400, 'invalid_max_k', `maxK: expected a whole number from 1 to ${MAX_K}, got "${value}"`, 'maxK');
   return n;
 }
+const isLayoutChoice = (value: string): value is LayoutChoice => (LAYOUT_CHOICES as readonly string[]).includes(value);

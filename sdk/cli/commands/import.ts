@@ -6,11 +6,12 @@ import { MAX_K } from '../../../core/geo/manifest.ts';
 import { connectionOptions, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 import { layoutOption } from './plan.ts';
 
-export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive] [--max-k K] [--publish] [--json]
+export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive|veiled] [--max-k K] [--publish] [--json]
   Uploads a site table (CSV with a header; columns id, lat, lon required, name optional, every
   other column a detail) as a new version of the dataset, builds its cell matrix and, with
   --publish, makes it the active version. The dataset is created if it does not exist.
-  --max-k K   build for up to the K nearest sites (1 to 8, default 1); lists grow with K
+  --layout veiled publishes only a coarse grid (see \`nearveil plan\`); queries then take two rounds.
+  --max-k K   build for up to the K nearest sites (1 to 8, default 1; veiled serves 1 only); lists grow with K
   --endpoint URL, --token TOKEN   override the dev credentials (TOKEN is the tenant admin token)`;
 
 export async function importCommand(args: string[], print: (line: string) => void): Promise<void> {
