@@ -5,7 +5,9 @@ import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
+import { InputError } from '../errors/input-error.ts';
+import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
+import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
 import type { PlanRecord } from '../geo/manifest.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
@@ -34,7 +36,7 @@ const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; memoryBudgetBytes?: number },
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -52,11 +54,13 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto');
+  const { chosen, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto');
+  const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
+  const choice = layoutWithinMemory(chosen, tried, meta.layout ?? 'auto', budget);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
-  const planned = choosePlan(matrix);
+  const planned = planWithinMemory(choosePlan(matrix), matrix.rows, matrix.columns, budget);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,
@@ -96,6 +100,42 @@ export async function buildVersion(
       cost: g.cost,
     })),
   };
+}
+
+/** Memory is checked at the largest modulus a client may use: its slots are the widest. */
+const MEMORY_CHECK_BITS = Math.max(...MODULUS_BITS);
+const MiB = (bytes: number) => (bytes / 2 ** 20).toFixed(0);
+
+/**
+ * The chosen layout if a Worker can answer from its matrix; under 'auto' the cheapest layout
+ * that fits otherwise. A layout asked for by name that does not fit is refused (InputError).
+ * The least memory any plan needs is the blocked plan with two-column tables.
+ */
+function layoutWithinMemory(chosen: LayoutCandidate, tried: LayoutCandidate[], asked: LayoutChoice, budget: number): LayoutCandidate {
+  const least = (c: LayoutCandidate) => answerMemory(c.packing.rows, c.packing.columns, { kind: 'blocked', blockColumns: 2 }, MEMORY_CHECK_BITS).peakBytes;
+  if (least(chosen) <= budget) return chosen;
+  const fitting = tried.filter((c) => least(c) <= budget);
+  if (asked === 'auto' && fitting.length > 0) return fitting.reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
+  throw new InputError(
+    'matrix_too_large',
+    'layout',
+    `layout ${chosen.label} needs a ${chosen.packing.rows} x ${chosen.packing.columns} matrix: answering from it takes ${MiB(least(chosen))} MiB, ` +
+      `more than the ${MiB(budget)} MiB a Worker may use for one answer` + (asked === 'auto' ? '' : '; try the adaptive layout'),
+    { status: 422 },
+  );
+}
+
+function planShape(p: AnswerPlan): PlanShape {
+  return p.kind === 'mined' ? { kind: 'mined', rules: p.mined.rules.length } : p;
+}
+
+/** The plan with the fewest products among those whose working memory fits the budget. */
+function planWithinMemory(choice: PlanChoice, rows: number, columns: number, budget: number): PlanChoice {
+  const fits = (p: AnswerPlan) => answerMemory(rows, columns, planShape(p), MEMORY_CHECK_BITS).peakBytes <= budget;
+  if (fits(choice.plan)) return choice;
+  const best = choice.weighed.filter((w) => fits(w.plan)).reduce<(typeof choice.weighed)[number] | null>((a, w) => (a === null || w.products < a.products ? w : a), null);
+  if (best === null) throw new InputError('matrix_too_large', 'layout', `no answer plan fits ${MiB(budget)} MiB on a ${rows} x ${columns} matrix`, { status: 422 });
+  return { plan: best.plan, products: best.products, weighed: choice.weighed };
 }
 
 function popcount(x: number): number {

@@ -12,7 +12,8 @@ import type { ProductEngine } from '../pir/product-engine.ts';
  * the Montgomery form directly (a uniform form is a uniform value), getMany converts back in
  * batches with a kernel product by a plain 1.
  */
-export type MontgomeryKernel = ProductEngine;
+/** A ProductEngine that also reports the bytes of its WebAssembly memory (slots plus fixed areas). */
+export type MontgomeryKernel = ProductEngine & { readonly memoryBytes: number };
 
 
 /**
@@ -135,6 +136,9 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
     modulus: n,
     get slots() {
       return slots;
+    },
+    get memoryBytes() {
+      return e.memory.buffer.byteLength;
     },
     ensureSlots(count: number) {
       if (!Number.isSafeInteger(count) || count < 0) throw new RangeError(`ensureSlots: expected integer count >= 0, got ${count}`);

@@ -8,8 +8,9 @@ import type { ProductEngine } from './product-engine.ts';
  * Same meaning as answerQuery (the plain BigInt reference); the products are batched so an
  * engine with parallel lanes stays busy. Returns the rows and the products done (for metering).
  *
- * Slots used: [0, R) row accumulators, then the plan's working slots, then 2R for blinding.
- * Memory: R accumulators plus one block table (blocked) or the C values (plain), never both.
+ * Slots used: [0, R) row accumulators, then the plan's working slots, then the blinding's
+ * (2 x min(R, BLINDING_CHUNK)). Memory: R accumulators plus the blocked plan's TABLES_AT_ONCE
+ * tables, or the C values (plain), or the C values and mined rules (mined).
  * The query must have passed validateQuery. Variable-time in the matrix (public to the server).
  */
 export function answerWithPlan(
@@ -37,7 +38,7 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   const R = matrix.rows;
   const started = new Uint8Array(R);
   const working = plan.kind === 'plain' ? matrix.columns : plan.kind === 'blocked' ? TABLES_AT_ONCE * 2 ** plan.blockColumns : matrix.columns + plan.mined.rules.length;
-  engine.ensureSlots(R + working + 2 * R);
+  engine.ensureSlots(R + working + blindingSlots(R));
   let products =
     plan.kind === 'plain'
       ? plainProducts(matrix, values, engine, started)
@@ -189,21 +190,32 @@ function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, eng
 }
 
 /** Blocks whose tables are built together (memory: this many tables of 2^b slots). */
-const TABLES_AT_ONCE = 8;
+export const TABLES_AT_ONCE = 8;
+
+/** Rows blinded at a time: the blinding's working slots (s and s^2) stay 2 x this, whatever R is. */
+export const BLINDING_CHUNK = 1024;
+
+/** Working slots of the blinding for R rows. */
+export const blindingSlots = (R: number) => 2 * Math.min(R, BLINDING_CHUNK);
 
 /** z_r = acc_r * s_r^2 with a fresh uniform non-zero s_r per row: two products per row. */
 function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Array): number {
-  const squareBase = sBase + R;
+  const chunk = Math.min(R, BLINDING_CHUNK);
+  const squareBase = sBase + chunk;
   const batch = new Batch();
-  for (let r = 0; r < R; r++) {
-    if (!started[r]) engine.setOne(r);
-    // A non-unit s (sharing a factor with n) turns up with probability about 2^-1023.
-    engine.setRandomNonZero(sBase + r);
-    batch.push(squareBase + r, sBase + r, sBase + r);
+  let products = 0;
+  for (let from = 0; from < R; from += chunk) {
+    const to = Math.min(R, from + chunk);
+    for (let r = from; r < to; r++) {
+      if (!started[r]) engine.setOne(r);
+      // A non-unit s (sharing a factor with n) turns up with probability about 2^-1023.
+      engine.setRandomNonZero(sBase + r - from);
+      batch.push(squareBase + r - from, sBase + r - from, sBase + r - from);
+    }
+    products += batch.run(engine);
+    for (let r = from; r < to; r++) batch.push(r, r, squareBase + r - from);
+    products += batch.run(engine);
   }
-  let products = batch.run(engine);
-  for (let r = 0; r < R; r++) batch.push(r, r, squareBase + r);
-  products += batch.run(engine);
   return products;
 }
 
@@ -216,7 +228,7 @@ export function combineParts(parts: ReadonlyArray<readonly bigint[]>, engine: Pr
   if (parts.length === 0 || parts.some((p) => p.length !== R)) {
     throw new RangeError(`combineParts: expected parts of equal length, got ${parts.map((p) => p.length).join(', ') || 'none'}`);
   }
-  engine.ensureSlots(R * parts.length + 2 * R);
+  engine.ensureSlots(R * parts.length + blindingSlots(R));
   const started = new Uint8Array(R).fill(1);
   const rows: number[][] = [];
   for (let r = 0; r < R; r++) {
