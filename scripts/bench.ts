@@ -23,6 +23,8 @@ import { decodeRows } from '../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
 import { mineMatrix } from '../core/pir/mined-plan.ts';
 import { answerWithPlan } from '../core/pir/planned-answer.ts';
+import { answerMemory, planShapeOf } from '../core/pir/answer-memory.ts';
+import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../core/pir/fan-out.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
@@ -149,10 +151,12 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   const found = nearestCandidates(decodeCandidates(m, decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount)), site.lat, site.lon)[0]!;
   const clientMs = queryMs + ms(t);
   if (found.distanceMeters > 2) throw new Error(`bench: ${label} did not find the site at its own position`);
-  // Working memory of one answer: the matrix words plus the kernel's slots.
+  // Working memory of one answer: measured kernel memory next to the model the build checks.
   const engine = kernelEngine(key.n);
   answerWithPlan(built.matrix, makeQuery(key, m.matrix.columns, 0), plan, engine);
-  const memoryMB = (built.matrix.words.byteLength + engine.slots * 4 * Math.ceil(2048 / 13 + 4)) / 1e6;
+  const model = answerMemory(m.matrix.rows, m.matrix.columns, planShapeOf(m.matrix.plan), 2048);
+  const memoryMB = (built.matrix.words.byteLength + engine.memoryBytes) / 1e6;
+  const parts = splitColumns(m.matrix.columns, m.matrix.plan.products, DEFAULT_PRODUCTS_PER_PART).length;
   const result = {
     label,
     sites: sites.length,
@@ -168,12 +172,14 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
     bytesDown: answerBytes.length,
     clientMs,
     answerMemoryMB: memoryMB,
+    answerMemoryModelMB: model.peakBytes / 1e6,
+    parts,
   };
   log(
     `${label.padEnd(26)} ${String(sites.length).padStart(7)} ${buildS.toFixed(1).padStart(6)} s  ${result.matrix.padEnd(13)} ${result.bitsPerSite.toFixed(0).padStart(6)}  ` +
       `${String(weighed.plain).padStart(9)} ${String(bestBlocked).padStart(9)} ${String(weighed.mined).padStart(9)} ${result.products.chosen.padEnd(12)}` +
       `${(server.plainMs / 1000).toFixed(2).padStart(7)}${server.plainMeasured ? ' ' : '*'} ${(server.oursMs / 1000).toFixed(2).padStart(6)} ${server.speedup.toFixed(1).padStart(5)}x  ` +
-      `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)}`,
+      `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)} ${(model.peakBytes / 1e6).toFixed(0).padStart(5)}  ${String(parts).padStart(5)}`,
   );
   return result;
 }
@@ -205,8 +211,9 @@ log();
 const random = await randomMatrixAnswer(key);
 log();
 log('Datasets, 2048-bit key; products per answer by plan; server s plain BigInt vs ours (chosen plan on the kernel; * = estimated from');
-log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel slots of one answer');
-log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB');
+log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel memory measured');
+log('in one answer, model = the peak the build checks against its 64 MiB budget (2048-bit); parts = invocations at the default fan-out threshold');
+log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB model  parts');
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
 if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets }));

@@ -12,15 +12,13 @@ import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
-import { splitColumns } from '../../core/pir/fan-out.ts';
+import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../../core/pir/fan-out.ts';
 import { answerByParts } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
 import { productEngine } from './product-engine.ts';
 
 /** No real matrix needs a bigger query than this; the exact size is checked per version. */
 const MAX_QUERY_BYTES = 32 * 1024 * 1024;
-/** About 10-15 s of plain BigInt products: above it, one answer is split over parts. */
-const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
 
 export const publicRoutes = new Hono<AppBindings>()
   // Apps in browsers call these routes; Server-Timing must be readable by them.
