@@ -51,6 +51,11 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   return { rows, products };
 }
 
+/** Slots first, first + 1, ..., first + count - 1. */
+function consecutive(first: number, count: number): Uint32Array {
+  return Uint32Array.from({ length: count }, (_, i) => first + i);
+}
+
 /** Scratch index arrays for multiplyMany, grown on demand. */
 class Batch {
   out = new Uint32Array(64);
@@ -84,7 +89,7 @@ class Batch {
 /** Plain: each row multiplies the values of its 1-columns. */
 function plainProducts(m: BitMatrix, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
   const R = m.rows;
-  for (let j = 0; j < m.columns; j++) engine.set(R + j, values[j]!);
+  engine.setMany(consecutive(R, m.columns), values);
   const rows: number[][] = [];
   for (let r = 0; r < R; r++) {
     const cols: number[] = [];
@@ -128,7 +133,7 @@ function multiplyRows(rows: ReadonlyArray<ArrayLike<number>>, engine: ProductEng
 function minedRowProducts(mined: MinedPlan, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
   const R = mined.rows.length;
   // Symbol s lives in slot R + s: values first, then rules in order.
-  for (let j = 0; j < mined.columns; j++) engine.set(R + j, values[j]!);
+  engine.setMany(consecutive(R, mined.columns), values);
   const depth = new Int32Array(mined.columns + mined.rules.length);
   const levels: number[][] = [];
   mined.rules.forEach(([a, b], i) => {
@@ -162,7 +167,15 @@ function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, eng
     for (let start = groupStart; start < Math.min(m.columns, groupStart + span); start += b) {
       blocks.push({ start, width: Math.min(b, m.columns - start), base: R + blocks.length * size });
     }
-    for (const { start, width, base } of blocks) for (let k = 0; k < width; k++) engine.set(base + (1 << k), values[start + k]!);
+    const singles: number[] = [];
+    const singleValues: bigint[] = [];
+    for (const { start, width, base } of blocks) {
+      for (let k = 0; k < width; k++) {
+        singles.push(base + (1 << k));
+        singleValues.push(values[start + k]!);
+      }
+    }
+    engine.setMany(singles, singleValues);
     // Level k: every subset whose highest member is k, from the subset without it (independent).
     for (let k = 1; k < b; k++) {
       const high = 1 << k;
@@ -230,21 +243,12 @@ export function combineParts(parts: ReadonlyArray<readonly bigint[]>, engine: Pr
   }
   engine.ensureSlots(R * parts.length + blindingSlots(R));
   const started = new Uint8Array(R).fill(1);
-  const rows: number[][] = [];
-  for (let r = 0; r < R; r++) {
-    const slots: number[] = [];
-    parts.forEach((part, i) => {
-      const slot = R * i + r;
-      if (i > 0) engine.set(slot, part[r]!);
-      slots.push(i === 0 ? r : slot);
-    });
-    engine.set(r, parts[0]![r]!);
-    rows.push(slots);
-  }
+  // Part i's row r in slot R * i + r; the first part's rows are the accumulators.
+  parts.forEach((part, i) => engine.setMany(consecutive(R * i, R), part));
   let products = 0;
   const batch = new Batch();
   for (let i = 1; i < parts.length; i++) {
-    for (let r = 0; r < R; r++) batch.push(r, r, rows[r]![i]!);
+    for (let r = 0; r < R; r++) batch.push(r, r, R * i + r);
     products += batch.run(engine);
   }
   products += blind(engine, R, R * parts.length, started);
