@@ -1,9 +1,6 @@
 import { Hono } from 'hono';
 import { cors } from 'hono/cors';
-import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
-import { answerWithPlan } from '../../core/pir/planned-answer.ts';
-import { validateQuery } from '../../core/pir/validate.ts';
-import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import type { Manifest } from '../../core/geo/manifest.ts';
 import { requireCredential } from '../auth/require-credential.ts';
 import { database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
@@ -11,20 +8,17 @@ import { ApiError } from '../http/api-error.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
-import { recordAnsweredQuery } from '../metering/record-usage.ts';
-import { splitColumns } from '../../core/pir/fan-out.ts';
-import { answerByParts } from './fanned-answer.ts';
-import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
-import { productEngine } from './product-engine.ts';
+import { recordDownload } from '../metering/record-usage.ts';
+import { blobKeys, getBlobStream } from '../storage/blobs.ts';
+import { answerColumnQuery } from './answer-column.ts';
+import { loadManifest } from './version-cache.ts';
 
 /** No real matrix needs a bigger query than this; the exact size is checked per version. */
 const MAX_QUERY_BYTES = 32 * 1024 * 1024;
-/** About 10-15 s of plain BigInt products: above it, one answer is split over parts. */
-const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
 
 export const publicRoutes = new Hono<AppBindings>()
-  // Apps in browsers call these routes; Server-Timing must be readable by them.
-  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications'], maxAge: 600 }))
+  // Apps in browsers call these routes; Server-Timing and ETag must be readable by them.
+  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications', 'ETag'], maxAge: 600 }))
   .use('/datasets/*', requireCredential('query'))
   .get('/datasets/:dataset/manifest', async (c) => {
     const db = database(c.env);
@@ -42,44 +36,60 @@ export const publicRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
-    const columns = manifest.matrix.columns;
-    const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), columns);
-    const declared = Number(c.req.header('content-length') ?? '0');
-    if (declared > largest) {
-      throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes, got ${declared}`, 'body');
-    }
-    const body = new Uint8Array(await c.req.arrayBuffer());
-    if (body.length > largest) throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes`, 'body');
-    const started = performance.now();
-    const { n, values } = decodeQuery(body);
-    validateQuery(n, values, columns);
-    const matrix = await loadMatrix(c.env, version.matrixKey!);
-    const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
-    const parts = splitColumns(columns, manifest.matrix.plan.products, perPart);
-    const { rows, products: multiplications } =
-      parts.length > 1 && c.env.PARTS
-        ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
-        : // The plan the build chose for this matrix (recorded in its manifest).
-          answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), productEngine(n));
-    const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
-    const serverMs = performance.now() - started;
-    c.executionCtx.waitUntil(
-      recordAnsweredQuery(db, {
-        credentialId: c.var.credentialId,
-        datasetId: dataset.id,
-        version: version.number,
-        bytesIn: body.length,
-        bytesOut: answer.length,
-        multiplications,
-      }),
-    );
-    return c.body(answer.buffer as ArrayBuffer, 200, {
-      'Content-Type': 'application/octet-stream',
-      'Server-Timing': `answer;dur=${serverMs.toFixed(1)};desc="PIR answer"`,
-      'X-Nearveil-Multiplications': String(multiplications),
-      'Cache-Control': 'no-store',
+    return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
+      matrixKey: version.matrixKey!,
+      contentHash: manifest.contentHash,
+      columns: manifest.matrix.columns,
+      plan: manifest.matrix.plan,
+      label: 'answer',
     });
+  })
+  // The details round (core/details/DETAILS.md): the same PIR query, on the matrix of record keys.
+  .post('/datasets/:dataset/versions/:version/details/query', limitBody(MAX_QUERY_BYTES), async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
+    const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
+    return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
+      matrixKey: blobKeys.matrix(details.matrix.contentHash),
+      contentHash: details.matrix.contentHash,
+      columns: details.matrix.columns,
+      plan: details.matrix.plan,
+      label: 'details',
+    });
+  })
+  // Every sealed record of the version in one immutable file: every client downloads all of it,
+  // so the download says nothing about which site it wants. Metered as bytes, no query.
+  .get('/datasets/:dataset/versions/:version/details/sealed', async (c) => {
+    const db = database(c.env);
+    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
+    const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
+    const etag = `"${details.sealedHash}"`;
+    // The file never changes (its key is its SHA-256): a browser or the SDK keeps it.
+    const caching = { ETag: etag, 'Cache-Control': 'private, max-age=31536000, immutable' };
+    if (ifNoneMatch(c.req.header('if-none-match'), etag)) return c.body(null, 304, caching);
+    const blob = await getBlobStream(c.env, blobKeys.sealed(details.sealedHash));
+    if (blob === null) throw new Error(`sealed file ${details.sealedHash} is missing`);
+    c.executionCtx.waitUntil(recordDownload(db, { credentialId: c.var.credentialId, datasetId: dataset.id, version: version.number, bytesOut: blob.size }));
+    return c.body(blob.body, 200, { ...caching, 'Content-Type': 'application/octet-stream', 'Content-Length': String(blob.size) });
   });
+
+/** RFC 9110, 13.1.2: If-None-Match holds "*" or a list of entity tags (weak ones compare too). */
+function ifNoneMatch(header: string | undefined, etag: string): boolean {
+  if (!header) return false;
+  return header.split(',').some((t) => {
+    const tag = t.trim();
+    return tag === '*' || tag === etag || tag === `W/${etag}`;
+  });
+}
+
+function detailsOf(manifest: Manifest): NonNullable<Manifest['details']> {
+  if (!manifest.details) {
+    throw new ApiError(404, 'details_unavailable', `version ${manifest.version} of "${manifest.dataset}" was built without private details; build a new version to add them`, 'version');
+  }
+  return manifest.details;
+}
 
 function activeVersionOf(dataset: DatasetRow): number {
   if (dataset.activeVersion === null) {
