@@ -1,5 +1,6 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
+import { createServer, type AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -15,7 +16,14 @@ import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const PORT = 8797;
+// A port free right now, so parallel runs on one machine never answer each other's requests.
+const PORT = await new Promise<number>((done, fail) => {
+  const probe = createServer().once('error', fail);
+  probe.listen(0, '127.0.0.1', () => {
+    const { port } = probe.address() as AddressInfo;
+    probe.close(() => done(port));
+  });
+});
 const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
 const env = { ...process.env, PORT: String(PORT), NEARVEIL_STATE: join(scratch, 'state'), NEARVEIL_HOME: join(scratch, 'home') };
 let server: ChildProcess;
