@@ -3,6 +3,7 @@ import { keyRoutes } from './auth/key-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
+import { usageRoutes } from './metering/usage-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
 
 /** The whole HTTP surface; routes live in their feature folders. */
@@ -10,6 +11,7 @@ export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)
+  .route('/v1/admin', usageRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);

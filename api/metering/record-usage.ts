@@ -1,6 +1,7 @@
 import { sql } from 'drizzle-orm';
 import type { Database } from '../db/client.ts';
 import { usageDaily } from '../db/schema.ts';
+import { utcDay } from './calendar.ts';
 
 export interface AnsweredQuery {
   credentialId: string;
@@ -13,7 +14,7 @@ export interface AnsweredQuery {
 
 /** Counts one answered query with a single upsert, so concurrent queries never lose a count. */
 export async function recordAnsweredQuery(db: Database, q: AnsweredQuery, now = new Date()): Promise<void> {
-  const day = now.toISOString().slice(0, 10);
+  const day = utcDay(now);
   await db
     .insert(usageDaily)
     .values({ ...q, day, queries: 1 })
@@ -33,7 +34,7 @@ export async function recordAnsweredQuery(db: Database, q: AnsweredQuery, now = 
  * dataset, version and day, with the same single upsert; it adds no query and no products.
  */
 export async function recordDownload(db: Database, d: { credentialId: string; datasetId: string; version: number; bytesOut: number }, now = new Date()): Promise<void> {
-  const day = now.toISOString().slice(0, 10);
+  const day = utcDay(now);
   await db
     .insert(usageDaily)
     .values({ ...d, day, queries: 0, bytesIn: 0, multiplications: 0 })

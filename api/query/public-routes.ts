@@ -1,20 +1,18 @@
 import { Hono } from 'hono';
 import { cors } from 'hono/cors';
 import type { Manifest } from '../../core/geo/manifest.ts';
+import { assertKeyScope } from '../auth/key-scope.ts';
 import { requireCredential } from '../auth/require-credential.ts';
-import { database } from '../db/client.ts';
+import { database, type Database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
-import { limitBody } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
+import { countRejections } from '../metering/count-rejections.ts';
 import { recordDownload } from '../metering/record-usage.ts';
 import { blobKeys, getBlobStream } from '../storage/blobs.ts';
 import { answerColumnQuery } from './answer-column.ts';
 import { loadManifest } from './version-cache.ts';
-
-/** No real matrix needs a bigger query than this; the exact size is checked per version. */
-const MAX_QUERY_BYTES = 32 * 1024 * 1024;
 
 export const publicRoutes = new Hono<AppBindings>()
   // Apps in browsers call these routes; Server-Timing and ETag must be readable by them.
@@ -22,7 +20,7 @@ export const publicRoutes = new Hono<AppBindings>()
   .use('/datasets/*', requireCredential('query'))
   .get('/datasets/:dataset/manifest', async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const requested = c.req.query('version');
     const number = requested === undefined ? activeVersionOf(dataset) : pathVersion(requested);
     const version = await servedVersion(db, dataset, number);
@@ -31,9 +29,9 @@ export const publicRoutes = new Hono<AppBindings>()
     c.header('ETag', `"${manifest.contentHash}"`);
     return c.json(manifest);
   })
-  .post('/datasets/:dataset/versions/:version/query', limitBody(MAX_QUERY_BYTES), async (c) => {
+  .post('/datasets/:dataset/versions/:version/query', countRejections(), async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
     return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
@@ -45,9 +43,9 @@ export const publicRoutes = new Hono<AppBindings>()
     });
   })
   // The details round (core/details/DETAILS.md): the same PIR query, on the matrix of record keys.
-  .post('/datasets/:dataset/versions/:version/details/query', limitBody(MAX_QUERY_BYTES), async (c) => {
+  .post('/datasets/:dataset/versions/:version/details/query', countRejections(), async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
     return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
@@ -62,7 +60,7 @@ export const publicRoutes = new Hono<AppBindings>()
   // so the download says nothing about which site it wants. Metered as bytes, no query.
   .get('/datasets/:dataset/versions/:version/details/sealed', async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
     const etag = `"${details.sealedHash}"`;
@@ -71,9 +69,15 @@ export const publicRoutes = new Hono<AppBindings>()
     if (ifNoneMatch(c.req.header('if-none-match'), etag)) return c.body(null, 304, caching);
     const blob = await getBlobStream(c.env, blobKeys.sealed(details.sealedHash));
     if (blob === null) throw new Error(`sealed file ${details.sealedHash} is missing`);
-    c.executionCtx.waitUntil(recordDownload(db, { credentialId: c.var.credentialId, datasetId: dataset.id, version: version.number, bytesOut: blob.size }));
+    await recordDownload(db, { credentialId: c.var.credentialId, datasetId: dataset.id, version: version.number, bytesOut: blob.size });
     return c.body(blob.body, 200, { ...caching, 'Content-Type': 'application/octet-stream', 'Content-Length': String(blob.size) });
   });
+
+async function scopedDataset(vars: AppBindings['Variables'], db: Database, raw: string | undefined): Promise<DatasetRow> {
+  const slug = pathSlug(raw, 'dataset');
+  assertKeyScope(vars.keyScope, slug);
+  return findDataset(db, vars.tenantId, slug);
+}
 
 /** RFC 9110, 13.1.2: If-None-Match holds "*" or a list of entity tags (weak ones compare too). */
 function ifNoneMatch(header: string | undefined, etag: string): boolean {
