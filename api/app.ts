@@ -1,5 +1,6 @@
 import { Hono } from 'hono';
 import { keyRoutes } from './auth/key-routes.ts';
+import { sessionRoutes } from './auth/session-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
@@ -9,6 +10,7 @@ import { publicRoutes } from './query/public-routes.ts';
 /** The whole HTTP surface; routes live in their feature folders. */
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
+  .route('/v1', sessionRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)

@@ -1,5 +1,5 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { createServer, type AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
@@ -16,12 +16,13 @@ import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-// A port free right now, so parallel runs on one machine never answer each other's requests.
-const PORT = await new Promise<number>((done, fail) => {
-  const probe = createServer().once('error', fail);
+/** A free loopback port, so several checkouts on one machine can run this test at once. */
+const PORT = await new Promise<number>((resolve, reject) => {
+  const probe = createServer();
+  probe.once('error', reject);
   probe.listen(0, '127.0.0.1', () => {
     const { port } = probe.address() as AddressInfo;
-    probe.close(() => done(port));
+    probe.close(() => resolve(port));
   });
 });
 const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
@@ -57,6 +58,23 @@ describe('README commands', () => {
     expect(serverLog).toContain(join(scratch, 'home', 'dev-credentials.json'));
   });
 
+  it('writes the operator, tenant admin and editor sign-ins, and they sign in with the right roles', async () => {
+    const saved = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as {
+      adminToken: string;
+      users: Record<string, { email: string; password: string; role: string }>;
+    };
+    expect(saved.adminToken).toMatch(/^nva_/);
+    expect(Object.values(saved.users).map((u) => u.role).sort()).toEqual(['operator', 'tenant_admin', 'tenant_editor']);
+    const admin = saved.users.tenantAdmin!;
+    const res = await fetch(`http://127.0.0.1:${PORT}/v1/session`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ email: admin.email, password: admin.password }),
+    });
+    expect(res.status).toBe(200);
+    expect(((await res.json()) as { user: { role: string; tenant: { slug: string } } }).user).toMatchObject({ role: 'tenant_admin', tenant: { slug: 'demo' } });
+  });
+
   it('`nearveil query --json` returns the brute-force nearest demo site', () => {
     const sites = parseSiteTable(harrowValeCsv()).sites;
     const index = new KDBush(sites.length);
@@ -86,6 +104,18 @@ describe('README commands', () => {
     expect(JSON.parse(run.stdout).version).toBe(1);
   });
 
+  it('`nearveil usage --json` prints the month\'s totals, counting the queries above', () => {
+    const run = nearveil(['usage', '--json']);
+    expect(run.code, run.stderr).toBe(0);
+    const usage = JSON.parse(run.stdout) as { month: string; queries: number; bytesIn: number; totals: { queries: number } } & Record<string, unknown>;
+    expect(usage.month).toBe(new Date().toISOString().slice(0, 7));
+    // Four demo queries and one on the imported dataset, above; each moved bytes and cost products.
+    expect(usage.queries).toBeGreaterThanOrEqual(5);
+    for (const k of ['rejected', 'bytesIn', 'bytesOut', 'multiplications']) expect(typeof usage[k]).toBe('number');
+    expect(usage.bytesIn).toBeGreaterThan(usage.queries * 256);
+    expect(usage.totals.queries).toBe(usage.queries);
+  });
+
   it('`nearveil query --details` prints the stored record of the nearest demo site, every column', () => {
     const table = parseSiteTable(harrowValeCsv());
     const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.62', '--lon', '-111.42', '--details', '--json']);
@@ -100,18 +130,6 @@ describe('README commands', () => {
     expect(again.code, again.stderr).toBe(0);
     expect(again.stdout).toMatch(/phone: "\+1 406 555 01\d\d"/);
     expect(again.stdout).toMatch(/sealed file kept from before/);
-  });
-
-  it('`nearveil usage --json` prints the month\'s totals, counting the queries above', () => {
-    const run = nearveil(['usage', '--json']);
-    expect(run.code, run.stderr).toBe(0);
-    const usage = JSON.parse(run.stdout) as { month: string; queries: number; bytesIn: number; totals: { queries: number } } & Record<string, unknown>;
-    expect(usage.month).toBe(new Date().toISOString().slice(0, 7));
-    // Four demo queries and one on the imported dataset, above; each moved bytes and cost products.
-    expect(usage.queries).toBeGreaterThanOrEqual(5);
-    for (const k of ['rejected', 'bytesIn', 'bytesOut', 'multiplications']) expect(typeof usage[k]).toBe('number');
-    expect(usage.bytesIn).toBeGreaterThan(usage.queries * 256);
-    expect(usage.totals.queries).toBe(usage.queries);
   });
 
   it('gives clear messages for bad input', () => {
