@@ -3,3 +3,4 @@ export { memorySealedCache, type DetailsCost, type SealedFileCache } from './det
 export type { SiteRecord } from '../core/details/record-codec.ts';
 export { connectAdmin, type AdminOptions, type VersionInfo } from './admin.ts';
 export { NearveilError } from './http.ts';
+export type { PartitionRoundCost } from './partition-round.ts';

@@ -33,6 +33,8 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
       await putBlob(env, blobKeys.matrix(details.matrix.contentHash), built.details.matrixBlob);
       await putBlob(env, blobKeys.sealed(details.sealedHash), built.details.sealedFile);
     }
+    // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
+    if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
     await putBlob(env, manifestKey, JSON.stringify(built.manifest));
     await moveVersionState(db, { ...version, state: 'building' }, ['building'], 'ready', {
       matrixKey,

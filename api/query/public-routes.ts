@@ -34,11 +34,12 @@ export const publicRoutes = new Hono<AppBindings>()
     const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
+    const target = queriedMatrix(manifest, version, c.req.query('matrix'));
     return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
-      matrixKey: version.matrixKey!,
-      contentHash: manifest.contentHash,
-      columns: manifest.matrix.columns,
-      plan: manifest.matrix.plan,
+      matrixKey: target.key,
+      contentHash: target.contentHash,
+      columns: target.columns,
+      plan: target.plan,
       label: 'answer',
     });
   })
@@ -93,6 +94,23 @@ function detailsOf(manifest: Manifest): NonNullable<Manifest['details']> {
     throw new ApiError(404, 'details_unavailable', `version ${manifest.version} of "${manifest.dataset}" was built without private details; build a new version to add them`, 'version');
   }
   return manifest.details;
+}
+
+/**
+ * The matrix a query asks: `?matrix=cells` (the default: candidate lists) or `?matrix=partition`
+ * (a veiled layout's coarse cell records, the first of its two private rounds). Both are bit
+ * matrices answered, fanned out and metered alike.
+ */
+function queriedMatrix(manifest: Manifest, version: VersionRow, which: string | undefined) {
+  if (which === undefined || which === 'cells') {
+    return { key: version.matrixKey!, columns: manifest.matrix.columns, plan: manifest.matrix.plan, contentHash: manifest.contentHash };
+  }
+  if (which !== 'partition') throw new ApiError(400, 'invalid_matrix', `matrix: expected cells or partition, got "${which}"`, 'matrix');
+  if (!manifest.partition) {
+    throw new ApiError(400, 'no_partition_matrix', `matrix: version ${version.number} has a ${manifest.layout.kind} layout, which has no partition matrix`, 'matrix');
+  }
+  const p = manifest.partition;
+  return { key: blobKeys.matrix(p.contentHash), columns: p.columns, plan: p.plan, contentHash: p.contentHash };
 }
 
 function activeVersionOf(dataset: DatasetRow): number {
