@@ -1,6 +1,7 @@
 import { Hono } from 'hono';
 import { keyRoutes } from './auth/key-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
+import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
 import { publicRoutes } from './query/public-routes.ts';
@@ -9,6 +10,7 @@ import { publicRoutes } from './query/public-routes.ts';
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
   .route('/v1/admin', adminDatasetRoutes)
+  .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
