@@ -9,6 +9,8 @@ import { publicRoutes } from './query/public-routes.ts';
 /** The whole HTTP surface; routes live in their feature folders. */
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
+  // The admin console is served from static assets at /console/ (wrangler.toml [assets]).
+  .get('/', (c) => c.redirect('/console/', 302))
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)

@@ -2,7 +2,9 @@
  * `npm start`: runs nearveil locally on its embedded default (wrangler dev with D1 and R2 on
  * disk), listening on 127.0.0.1 only. The first start creates the demo tenant, an admin token,
  * an API key and the invented Harrow Vale dataset, and writes them to .nearveil/.
- * Environment: PORT (default 8787), NEARVEIL_STATE (default .wrangler/state), NEARVEIL_HOME.
+ * Environment: PORT (default 8787), NEARVEIL_STATE (default .wrangler/state), NEARVEIL_HOME,
+ * NEARVEIL_INSPECTOR_PORT (wrangler's debugger port, default 9229: tests that start servers side
+ * by side give each its own).
  */
 import { join, resolve } from 'node:path';
 import { connectAdmin } from '../sdk/admin.ts';
@@ -38,7 +40,16 @@ async function ensureDemoDataset(adminToken: string): Promise<void> {
   console.log('Seeding the invented Harrow Vale demo dataset (2,000 sites)...');
   const uploaded = await admin.uploadSiteTable(DEMO_DATASET, harrowValeCsv());
   const built = await admin.build(DEMO_DATASET, uploaded.version);
-  await admin.publish(DEMO_DATASET, uploaded.version);
+  // workerd may recycle the isolate after the large build; publishing again is harmless.
+  for (let attempt = 1; ; attempt++) {
+    try {
+      await admin.publish(DEMO_DATASET, uploaded.version);
+      break;
+    } catch (err) {
+      if (!(err instanceof NearveilError && err.status === 503) || attempt === 3) throw err;
+      await new Promise((r) => setTimeout(r, 1000));
+    }
+  }
   console.log(`Demo dataset ${DEMO_DATASET} v${uploaded.version}: matrix ${built.matrix.rows} x ${built.matrix.columns}.`);
 }
 
@@ -49,7 +60,8 @@ async function start(): Promise<void> {
   const credentialsPath = join(home, CREDENTIALS_FILE);
   writePrivateJson(credentialsPath, credentials);
 
-  const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false']);
+  const inspector = process.env.NEARVEIL_INSPECTOR_PORT ? ['--inspector-port', process.env.NEARVEIL_INSPECTOR_PORT] : [];
+  const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false', ...inspector]);
   const stop = () => dev.kill('SIGTERM');
   process.on('SIGINT', stop);
   process.on('SIGTERM', stop);
