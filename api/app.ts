@@ -4,6 +4,7 @@ import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
+import { usageRoutes } from './metering/usage-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
 
 /** The whole HTTP surface; routes live in their feature folders. */
@@ -14,6 +15,7 @@ export const app = new Hono<AppBindings>()
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)
+  .route('/v1/admin', usageRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);

@@ -12,6 +12,10 @@ export interface Env {
 export interface RequestVars {
   tenantId: string;
   credentialId: string;
+  /** API keys: the dataset slugs the key may read, or null for every dataset of its tenant. */
+  keyScope: readonly string[] | null;
+  /** API keys: answered queries allowed per UTC month, or null for no limit. */
+  monthlyQuota: number | null;
 }
 
 export interface AppBindings {

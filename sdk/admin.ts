@@ -15,6 +15,38 @@ export interface VersionInfo {
   error: string | null;
 }
 
+export interface ApiKeyInfo {
+  id: string;
+  label: string;
+  datasets: string[] | null;
+  monthlyQuota: number | null;
+  usedThisMonth: number;
+  createdAt: string;
+  revokedAt: string | null;
+}
+
+export interface UsageCounts {
+  queries: number;
+  rejected: number;
+  bytesIn: number;
+  bytesOut: number;
+  multiplications: number;
+}
+
+export interface UsageReport {
+  tenant: string;
+  dataset: string | null;
+  month: string;
+  totals: UsageCounts;
+  days: Array<{ day: string } & UsageCounts>;
+}
+
+/** `?a=1&b=2` from the defined entries, or '' when there are none. */
+function queryString(params: Record<string, string | undefined>): string {
+  const entries = Object.entries(params).filter((e): e is [string, string] => e[1] !== undefined);
+  return entries.length === 0 ? '' : '?' + new URLSearchParams(entries).toString();
+}
+
 /** Provider-side calls: datasets, site table uploads, builds and publishing. */
 export function connectAdmin(options: AdminOptions) {
   const http = { endpoint: options.endpoint, secret: options.token, ...(options.fetch ? { fetch: options.fetch } : {}) };
@@ -43,7 +75,11 @@ export function connectAdmin(options: AdminOptions) {
     publish: (dataset: string, version: number) =>
       json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),
     versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),
-    createApiKey: (label: string) => json<{ id: string; apiKey: string }>('POST', 'v1/admin/keys', { label }),
+    /** A new API key; `secret` is shown this once. `datasets` limits it to those slugs. */
+    createApiKey: (key: { label: string; datasets?: string[]; monthlyQuota?: number }) => json<ApiKeyInfo & { secret: string }>('POST', 'v1/admin/keys', key),
+    apiKeys: () => json<{ keys: ApiKeyInfo[] }>('GET', 'v1/admin/keys'),
+    /** Usage of a UTC month (default: the current one), per day and in total. `tenant` is for the operator. */
+    usage: (filter: { tenant?: string; dataset?: string; month?: string } = {}) => json<UsageReport>('GET', `v1/admin/usage${queryString(filter)}`),
     revokeApiKey: (id: string) => json<{ id: string; revokedAt: string }>('POST', `v1/admin/keys/${encodeURIComponent(id)}/revoke`),
   };
 }

@@ -4,6 +4,7 @@ import { database } from '../db/client.ts';
 import { credentials } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
+import { parseKeyScope } from './key-scope.ts';
 import { hashSecret, SECRET_PREFIX } from './secrets.ts';
 
 /**
@@ -29,6 +30,8 @@ export function requireCredential(kind: 'admin' | 'query'): MiddlewareHandler<Ap
     if (row.revokedAt !== null) throw new ApiError(403, 'credential_revoked', `the ${noun} was revoked at ${row.revokedAt}`, 'authorization');
     c.set('tenantId', row.tenantId);
     c.set('credentialId', row.id);
+    c.set('keyScope', parseKeyScope(row.datasetScope));
+    c.set('monthlyQuota', row.monthlyQuota);
     await next();
   };
 }

@@ -22,7 +22,26 @@ export const credentials = sqliteTable('credentials', {
   label: text('label').notNull(),
   createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
   revokedAt: text('revoked_at'),
+  /** API keys only: JSON array of dataset slugs the key may read; null means every dataset of the tenant. */
+  datasetScope: text('dataset_scope'),
+  /** API keys only: most answered queries per UTC calendar month; null means no limit. */
+  monthlyQuota: integer('monthly_quota'),
 });
+
+/**
+ * Answered queries per API key and UTC month, the counter quotas are checked against. A query
+ * takes its slot with one conditional upsert before it is answered, so concurrent queries can
+ * never push a key past its quota (see api/metering/quota.ts).
+ */
+export const keyMonths = sqliteTable(
+  'key_months',
+  {
+    credentialId: text('credential_id').notNull().references(() => credentials.id),
+    month: text('month').notNull(),
+    queries: integer('queries').notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.credentialId, t.month] })],
+);
 
 export const datasets = sqliteTable(
   'datasets',
@@ -74,4 +93,21 @@ export const usageDaily = sqliteTable(
     multiplications: integer('multiplications').notNull().default(0),
   },
   (t) => [primaryKey({ columns: [t.credentialId, t.datasetId, t.version, t.day] })],
+);
+
+/**
+ * Refused queries per tenant, API key, dataset slug (as asked, the dataset may not exist), UTC day
+ * and refusal code. Counted apart from usage_daily and never billed.
+ */
+export const rejectionsDaily = sqliteTable(
+  'rejections_daily',
+  {
+    tenantId: text('tenant_id').notNull().references(() => tenants.id),
+    credentialId: text('credential_id').notNull().references(() => credentials.id),
+    datasetSlug: text('dataset_slug').notNull(),
+    day: text('day').notNull(),
+    reason: text('reason').notNull(),
+    queries: integer('queries').notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.credentialId, t.datasetSlug, t.day, t.reason] })],
 );

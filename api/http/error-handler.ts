@@ -11,7 +11,7 @@ export function errorBody(code: string, message: string, field?: string, details
 
 /** Maps client faults to 4xx JSON; logs anything else and answers a bare 500 so internals never leak. */
 export function handleError(err: Error, c: Context): Response {
-  if (err instanceof ApiError) return c.json(errorBody(err.code, err.message, err.field), err.status);
+  if (err instanceof ApiError) return c.json(errorBody(err.code, err.message, err.field), err.status, { ...err.headers });
   if (err instanceof InputError) {
     const details = err.details.length > 0 ? err.details : undefined;
     return c.json(errorBody(err.code, err.message, err.field, details), err.status);

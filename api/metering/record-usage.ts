@@ -1,6 +1,7 @@
 import { sql } from 'drizzle-orm';
 import type { Database } from '../db/client.ts';
 import { usageDaily } from '../db/schema.ts';
+import { utcDay } from './calendar.ts';
 
 export interface AnsweredQuery {
   credentialId: string;
@@ -13,7 +14,7 @@ export interface AnsweredQuery {
 
 /** Counts one answered query with a single upsert, so concurrent queries never lose a count. */
 export async function recordAnsweredQuery(db: Database, q: AnsweredQuery, now = new Date()): Promise<void> {
-  const day = now.toISOString().slice(0, 10);
+  const day = utcDay(now);
   await db
     .insert(usageDaily)
     .values({ ...q, day, queries: 1 })

@@ -8,17 +8,19 @@ import { requireCredential } from '../auth/require-credential.ts';
 import { database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
-import { limitBody } from '../http/body-limit.ts';
+import { readLimitedBytes } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
+import { assertKeyScope } from '../auth/key-scope.ts';
+import { secondsToNextMonth, utcMonth } from '../metering/calendar.ts';
+import { countRejections } from '../metering/count-rejections.ts';
+import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
 import { splitColumns } from '../../core/pir/fan-out.ts';
 import { answerByParts } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
 import { productEngine } from './product-engine.ts';
 
-/** No real matrix needs a bigger query than this; the exact size is checked per version. */
-const MAX_QUERY_BYTES = 32 * 1024 * 1024;
 /** About 10-15 s of plain BigInt products: above it, one answer is split over parts. */
 const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
 
@@ -28,7 +30,9 @@ export const publicRoutes = new Hono<AppBindings>()
   .use('/datasets/*', requireCredential('query'))
   .get('/datasets/:dataset/manifest', async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const slug = pathSlug(c.req.param('dataset'), 'dataset');
+    assertKeyScope(c.var.keyScope, slug);
+    const dataset = await findDataset(db, c.var.tenantId, slug);
     const requested = c.req.query('version');
     const number = requested === undefined ? activeVersionOf(dataset) : pathVersion(requested);
     const version = await servedVersion(db, dataset, number);
@@ -37,42 +41,57 @@ export const publicRoutes = new Hono<AppBindings>()
     c.header('ETag', `"${manifest.contentHash}"`);
     return c.json(manifest);
   })
-  .post('/datasets/:dataset/versions/:version/query', limitBody(MAX_QUERY_BYTES), async (c) => {
+  .post('/datasets/:dataset/versions/:version/query', countRejections(), async (c) => {
     const db = database(c.env);
-    const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const slug = pathSlug(c.req.param('dataset'), 'dataset');
+    assertKeyScope(c.var.keyScope, slug);
+    const dataset = await findDataset(db, c.var.tenantId, slug);
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
     const columns = manifest.matrix.columns;
     const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), columns);
-    const declared = Number(c.req.header('content-length') ?? '0');
-    if (declared > largest) {
-      throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes, got ${declared}`, 'body');
-    }
-    const body = new Uint8Array(await c.req.arrayBuffer());
-    if (body.length > largest) throw new ApiError(413, 'body_too_large', `body: a query on this version is at most ${largest} bytes`, 'body');
+    // The exact size a query on this version can have, checked as the body streams in.
+    const body = await readLimitedBytes(c.req.raw, largest);
     const started = performance.now();
     const { n, values } = decodeQuery(body);
     validateQuery(n, values, columns);
-    const matrix = await loadMatrix(c.env, version.matrixKey!);
-    const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
-    const parts = splitColumns(columns, manifest.matrix.plan.products, perPart);
-    const { rows, products: multiplications } =
-      parts.length > 1 && c.env.PARTS
-        ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
-        : // The plan the build chose for this matrix (recorded in its manifest).
-          answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), productEngine(n));
-    const answer = encodeAnswer((n.toString(2).length + 7) >> 3, rows);
-    const serverMs = performance.now() - started;
-    c.executionCtx.waitUntil(
-      recordAnsweredQuery(db, {
+    // The quota slot is taken only for a well-formed query, and given back if no answer goes out.
+    const now = new Date();
+    const month = utcMonth(now);
+    if (!(await takeQuotaSlot(db, c.var.credentialId, month, c.var.monthlyQuota))) {
+      const retryAfter = secondsToNextMonth(now);
+      throw new ApiError(429, 'quota_exceeded', `this API key has used its ${c.var.monthlyQuota} queries for ${month}; the quota renews in ${retryAfter} s (next UTC month)`, 'authorization', {
+        'Retry-After': String(retryAfter),
+      });
+    }
+    let answer: Uint8Array;
+    let multiplications: number;
+    let serverMs: number;
+    try {
+      const matrix = await loadMatrix(c.env, version.matrixKey!);
+      const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
+      const parts = splitColumns(columns, manifest.matrix.plan.products, perPart);
+      const answered =
+        parts.length > 1 && c.env.PARTS
+          ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
+          : // The plan the build chose for this matrix (recorded in its manifest).
+            answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), productEngine(n));
+      multiplications = answered.products;
+      answer = encodeAnswer((n.toString(2).length + 7) >> 3, answered.rows);
+      serverMs = performance.now() - started;
+      // Counted before the answer goes out: every answer a client receives is in the usage.
+      await recordAnsweredQuery(db, {
         credentialId: c.var.credentialId,
         datasetId: dataset.id,
         version: version.number,
         bytesIn: body.length,
         bytesOut: answer.length,
         multiplications,
-      }),
-    );
+      }, now);
+    } catch (err) {
+      await releaseQuotaSlot(db, c.var.credentialId, month).catch((e: unknown) => console.error('nearveil: quota slot not released', e));
+      throw err;
+    }
     return c.body(answer.buffer as ArrayBuffer, 200, {
       'Content-Type': 'application/octet-stream',
       'Server-Timing': `answer;dur=${serverMs.toFixed(1)};desc="PIR answer"`,

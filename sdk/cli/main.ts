@@ -4,6 +4,7 @@ import { CliError } from './cli-error.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
 import { QUERY_HELP, queryCommand } from './commands/query.ts';
+import { USAGE_HELP, usageCommand } from './commands/usage.ts';
 
 const HELP = `nearveil: private nearest-site lookup
 
@@ -14,12 +15,15 @@ ${IMPORT_HELP}
 
 ${PLAN_HELP}
 
+${USAGE_HELP}
+
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
 
 const commands: Record<string, (args: string[], print: (line: string) => void) => Promise<void>> = {
   query: queryCommand,
   import: importCommand,
   plan: planCommand,
+  usage: usageCommand,
 };
 
 /** Runs one command; returns the exit code (0 ok, 1 refused by the server, 2 a usage mistake). */

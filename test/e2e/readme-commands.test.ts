@@ -78,6 +78,18 @@ describe('README commands', () => {
     expect(JSON.parse(run.stdout).version).toBe(1);
   });
 
+  it('`nearveil usage --json` prints the month\'s totals, counting the queries above', () => {
+    const run = nearveil(['usage', '--json']);
+    expect(run.code, run.stderr).toBe(0);
+    const usage = JSON.parse(run.stdout) as { month: string; queries: number; bytesIn: number; totals: { queries: number } } & Record<string, unknown>;
+    expect(usage.month).toBe(new Date().toISOString().slice(0, 7));
+    // Four demo queries and one on the imported dataset, above; each moved bytes and cost products.
+    expect(usage.queries).toBeGreaterThanOrEqual(5);
+    for (const k of ['rejected', 'bytesIn', 'bytesOut', 'multiplications']) expect(typeof usage[k]).toBe('number');
+    expect(usage.bytesIn).toBeGreaterThan(usage.queries * 256);
+    expect(usage.totals.queries).toBe(usage.queries);
+  });
+
   it('gives clear messages for bad input', () => {
     const lat = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '123', '--lon', '0']);
     expect(lat.code).toBe(2);

@@ -44,3 +44,12 @@ describe('nearveil command line', () => {
     expect(help.out).toMatch(/nearveil import FILE --dataset SLUG/);
   });
 });
+
+describe('nearveil usage arguments', () => {
+  it('refuses a malformed month or slug before calling the server', async () => {
+    expect(await run(['usage', '--month', '2026-13', '--token', 'nva_x'])).toMatchObject({ code: 2, err: 'nearveil: --month: expected YYYY-MM, got "2026-13"' });
+    expect(await run(['usage', '--dataset', 'Not A Slug', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --dataset: /) });
+    expect(await run(['usage', '--tenant', 'X!', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --tenant: /) });
+    expect(await run(['usage', 'extra', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/unexpected argument "extra"/) });
+  });
+});

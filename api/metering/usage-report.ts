@@ -1,0 +1,60 @@
+import { and, asc, between, eq, sql } from 'drizzle-orm';
+import type { Database } from '../db/client.ts';
+import { datasets, rejectionsDaily, usageDaily } from '../db/schema.ts';
+import { monthDays } from './calendar.ts';
+
+export interface UsageCounts {
+  queries: number;
+  rejected: number;
+  bytesIn: number;
+  bytesOut: number;
+  multiplications: number;
+}
+
+export interface UsageReport {
+  month: string;
+  totals: UsageCounts;
+  days: Array<{ day: string } & UsageCounts>;
+}
+
+const zero = (): UsageCounts => ({ queries: 0, rejected: 0, bytesIn: 0, bytesOut: 0, multiplications: 0 });
+
+/**
+ * One tenant's usage for a UTC month, per day, summed from usage_daily (answered, billable)
+ * and rejections_daily (refused, never billed). `datasetSlug` narrows it to one dataset.
+ */
+export async function usageReport(db: Database, tenantId: string, month: string, datasetSlug?: string): Promise<UsageReport> {
+  const { first, last } = monthDays(month);
+  const answered = await db
+    .select({
+      day: usageDaily.day,
+      queries: sql<number>`sum(${usageDaily.queries})`,
+      bytesIn: sql<number>`sum(${usageDaily.bytesIn})`,
+      bytesOut: sql<number>`sum(${usageDaily.bytesOut})`,
+      multiplications: sql<number>`sum(${usageDaily.multiplications})`,
+    })
+    .from(usageDaily)
+    .innerJoin(datasets, eq(datasets.id, usageDaily.datasetId))
+    .where(and(eq(datasets.tenantId, tenantId), between(usageDaily.day, first, last), datasetSlug === undefined ? undefined : eq(datasets.slug, datasetSlug)))
+    .groupBy(usageDaily.day)
+    .orderBy(asc(usageDaily.day));
+  const refused = await db
+    .select({ day: rejectionsDaily.day, rejected: sql<number>`sum(${rejectionsDaily.queries})` })
+    .from(rejectionsDaily)
+    .where(
+      and(
+        eq(rejectionsDaily.tenantId, tenantId),
+        between(rejectionsDaily.day, first, last),
+        datasetSlug === undefined ? undefined : eq(rejectionsDaily.datasetSlug, datasetSlug),
+      ),
+    )
+    .groupBy(rejectionsDaily.day);
+  const byDay = new Map<string, UsageCounts>();
+  const at = (day: string) => byDay.get(day) ?? byDay.set(day, zero()).get(day)!;
+  for (const row of answered) Object.assign(at(row.day), { queries: row.queries, bytesIn: row.bytesIn, bytesOut: row.bytesOut, multiplications: row.multiplications });
+  for (const row of refused) at(row.day).rejected = row.rejected;
+  const days = [...byDay.entries()].sort(([a], [b]) => a.localeCompare(b)).map(([day, counts]) => ({ day, ...counts }));
+  const totals = zero();
+  for (const d of days) for (const k of Object.keys(totals) as Array<keyof UsageCounts>) totals[k] += d[k];
+  return { month, totals, days };
+}

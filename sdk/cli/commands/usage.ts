@@ -1,0 +1,43 @@
+import { connectAdmin } from '../../admin.ts';
+import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
+import { CliError } from '../cli-error.ts';
+import { connectionOptions, parseCommand, requireString, resolveConnection } from '../options.ts';
+
+export const USAGE_HELP = `nearveil usage [--dataset SLUG] [--month YYYY-MM] [--tenant SLUG] [--json]
+  Answered and refused queries, bytes in and out and server multiplications of a UTC month
+  (default: this month), per day and in total. Refused queries are counted apart, never billed.
+  --tenant SLUG      another tenant's usage (the operator only)
+  --json             print one object: month, the totals queries, rejected, bytesIn, bytesOut,
+                     multiplications (also under "totals"), and days
+  --endpoint URL, --token TOKEN   override the dev credentials`;
+
+const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/;
+
+export async function usageCommand(args: string[], print: (line: string) => void): Promise<void> {
+  const { values, positionals } = parseCommand('usage', args, {
+    ...connectionOptions,
+    dataset: { type: 'string' },
+    month: { type: 'string' },
+    tenant: { type: 'string' },
+  });
+  if (values.help) return print(USAGE_HELP);
+  if (positionals.length > 0) throw new CliError(`usage: unexpected argument "${positionals[0]}" (see \`nearveil help\`)`);
+  if (values.month !== undefined && !MONTH.test(values.month)) throw new CliError(`--month: expected YYYY-MM, got "${values.month}"`);
+  for (const flag of ['dataset', 'tenant'] as const) {
+    const value = values[flag];
+    const slug = value === undefined ? undefined : SlugSchema.safeParse(value);
+    if (slug && !slug.success) throw new CliError(`--${flag}: ${slug.error.issues[0]?.message}, got "${value}"`);
+  }
+  const conn = resolveConnection(values);
+  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
+  const report = await connectAdmin({ endpoint: conn.endpoint, token }).usage({ tenant: values.tenant, dataset: values.dataset, month: values.month });
+  if (values.json) {
+    print(JSON.stringify({ tenant: report.tenant, dataset: report.dataset, month: report.month, ...report.totals, totals: report.totals, days: report.days }));
+    return;
+  }
+  const t = report.totals;
+  print(`Usage of ${report.tenant}${report.dataset ? ` / ${report.dataset}` : ''} in ${report.month} (UTC):`);
+  print(`  ${t.queries} answered queries, ${t.rejected} refused (not billed)`);
+  print(`  ${t.bytesIn} bytes in, ${t.bytesOut} bytes out, ${t.multiplications} server multiplications`);
+  for (const d of report.days) print(`  ${d.day}: ${d.queries} answered, ${d.rejected} refused, ${d.bytesIn + d.bytesOut} bytes, ${d.multiplications} products`);
+}
