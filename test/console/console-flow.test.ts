@@ -140,7 +140,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByLabel('Admin token', { exact: true }).fill(credentials.adminToken!);
     await page.getByRole('button', { name: 'Sign in with token' }).click();
     await page.getByRole('grid').waitFor();
-    expect(await page.locator('header .who').textContent()).toContain('admin token');
+    await expect.poll(() => page.locator('header .who').textContent(), { timeout: 90_000 }).toContain('admin token');
     await shot('02-signed-in');
   });
 
@@ -154,10 +154,10 @@ describe('console: the data admin flow in headless Chromium', () => {
     await expect.poll(() => status().textContent(), { timeout: 90_000 }).toMatch(/Pasted 50 rows and the header row/);
     const invalid = page.locator('.grid-cell[aria-invalid="true"]');
     await invalid.first().waitFor();
-    expect(await invalid.count()).toBe(1);
-    expect(await invalid.first().getAttribute('title')).toBe('lat must be between -90 and 90, got 95.5');
-    expect(await page.locator('#problems-title').textContent()).toBe('1 problem to fix before saving');
-    expect(await page.getByRole('button', { name: 'Save as draft version' }).isDisabled()).toBe(true);
+    await expect.poll(() => invalid.count(), { timeout: 90_000 }).toBe(1);
+    await expect.poll(() => invalid.first().getAttribute('title'), { timeout: 90_000 }).toBe('lat must be between -90 and 90, got 95.5');
+    await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('1 problem to fix before saving');
+    await expect.poll(() => page.getByRole('button', { name: 'Save as draft version' }).isDisabled(), { timeout: 90_000 }).toBe(true);
     expect(await unlabelledControls()).toEqual([]);
     await shot('03-pasted-with-error');
   });
@@ -170,41 +170,44 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.keyboard.press('ArrowRight');
     // Row 2, column "name": the active cell carries the focus ring.
     const active = page.locator('.grid-cell.active');
-    expect(await active.getAttribute('id')).toBe('cell-1-1');
-    expect(await grid.getAttribute('aria-activedescendant')).toBe('cell-1-1');
+    await expect.poll(() => active.getAttribute('id'), { timeout: 90_000 }).toBe('cell-1-1');
+    await expect.poll(() => grid.getAttribute('aria-activedescendant'), { timeout: 90_000 }).toBe('cell-1-1');
     const ring = await active.evaluate((el) => getComputedStyle(el).outlineWidth + ' ' + getComputedStyle(el).outlineStyle);
     expect(ring).toBe('3px solid');
     await page.keyboard.type('Fenwick Night Shelter');
     await page.keyboard.press('Enter');
-    expect(await page.locator('#cell-1-1').textContent()).toBe('Fenwick Night Shelter');
-    expect(await active.getAttribute('id')).toBe('cell-2-1'); // Enter moves down
+    await expect.poll(() => page.locator('#cell-1-1').textContent(), { timeout: 90_000 }).toBe('Fenwick Night Shelter');
+    await expect.poll(() => active.getAttribute('id'), { timeout: 90_000 }).toBe('cell-2-1'); // Enter moves down
     await page.keyboard.press('F2');
     await page.keyboard.type(' (typo)');
     await page.keyboard.press('Escape');
-    expect(await page.locator('#cell-2-1').textContent()).toBe('Fenwick Shelter 3');
+    await expect.poll(() => page.locator('#cell-2-1').textContent(), { timeout: 90_000 }).toBe('Fenwick Shelter 3');
     await page.keyboard.press('Control+Z');
-    expect(await page.locator('#cell-1-1').textContent()).toBe('Fenwick Pharmacy 2');
+    await expect.poll(() => page.locator('#cell-1-1').textContent(), { timeout: 90_000 }).toBe('Fenwick Pharmacy 2');
     await page.keyboard.press('Control+Y');
-    expect(await page.locator('#cell-1-1').textContent()).toBe('Fenwick Night Shelter');
+    await expect.poll(() => page.locator('#cell-1-1').textContent(), { timeout: 90_000 }).toBe('Fenwick Night Shelter');
     await page.keyboard.press('Control+Z');
     // Fill down over phone numbers, then undo it: the table is back as pasted.
     await page.keyboard.press('End');
     await page.keyboard.press('Shift+ArrowDown');
     await page.keyboard.press('Shift+ArrowDown');
     await page.keyboard.press('Control+D');
-    expect(await page.locator('#cell-3-4').textContent()).toBe(await page.locator('#cell-1-4').textContent());
+    // Rows 3 to 5 selected in the phone column: rows 4 and 5 take row 3's number.
+    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0102');
+    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0102');
     await page.keyboard.press('Control+Z');
-    expect(await page.locator('#cell-3-4').textContent()).toBe('+1 406 555 0103');
+    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0103');
+    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0104');
     await shot('04-keyboard');
   });
 
   it('fixes the error by jumping to it and typing, then saves a draft version', async () => {
     await page.getByRole('button', { name: /Row 7, lat: lat must be between/ }).click();
-    expect(await page.locator('#cell-message').textContent()).toContain('Row 7, lat: lat must be between -90 and 90, got 95.5');
+    await expect.poll(() => page.locator('#cell-message').textContent(), { timeout: 90_000 }).toContain('Row 7, lat: lat must be between -90 and 90, got 95.5');
     await page.keyboard.type('45.31');
     await page.keyboard.press('Enter');
-    expect(await page.locator('.grid-cell[aria-invalid="true"]').count()).toBe(0);
-    expect(await page.locator('#problems-title').textContent()).toBe('No problems');
+    await expect.poll(() => page.locator('.grid-cell[aria-invalid="true"]').count(), { timeout: 90_000 }).toBe(0);
+    await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('No problems');
     await shot('05-fixed');
     await page.getByRole('button', { name: 'Save as draft version' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Saved as version 1 of fenwick-clinics \(draft, 50 sites\)/);
@@ -218,7 +221,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     await shot('07-built');
     await page.getByRole('button', { name: 'Publish v1' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v1 of fenwick-clinics is live/);
-    expect(await page.locator('tr[data-version="1"] .state').textContent()).toBe('active');
+    await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
     expect(await unlabelledControls()).toEqual([]);
     await shot('08-published');
 
@@ -259,17 +262,17 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByLabel('to', { exact: true }).selectOption('2');
     await page.getByRole('button', { name: 'Compare' }).click();
     await expect.poll(() => page.locator('#diff-summary').textContent(), { timeout: 90_000 }).toBe('v1 → v2: 0 added, 0 removed, 1 changed, 49 unchanged');
-    expect(await page.locator('#diff-table tbody tr').textContent()).toBe('changedFH-001name: Fenwick Clinic 1 → Fenwick Walk-in Clinic');
+    await expect.poll(() => page.locator('#diff-table tbody tr').textContent(), { timeout: 90_000 }).toBe('changedFH-001name: Fenwick Clinic 1 → Fenwick Walk-in Clinic');
     await shot('09-compared');
 
     await page.getByLabel('Make this version live again').selectOption('1');
     await page.getByRole('button', { name: 'Roll back…' }).click();
     const dialog = page.getByRole('dialog');
-    expect(await dialog.textContent()).toContain('Roll back fenwick-clinics from v2 (live now) to v1?');
+    await expect.poll(() => dialog.textContent(), { timeout: 90_000 }).toContain('Roll back fenwick-clinics from v2 (live now) to v1?');
     await shot('10-rollback-confirm');
     await dialog.getByRole('button', { name: 'Roll back to v1' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Rolled back fenwick-clinics from v2 to v1/);
-    expect(await page.locator('tr[data-version="1"] .state').textContent()).toBe('active');
+    await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
     await shot('11-rolled-back');
     const answer = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 });
     expect(answer.version).toBe(1);
@@ -286,8 +289,8 @@ describe('console: the data admin flow in headless Chromium', () => {
     const point = (await page.locator('#map-info dd').first().textContent())!.split(',').map(Number) as [number, number];
     const sites = fenwickSites().map((s, i) => (i === 6 ? { ...s, lat: 45.31 } : s));
     const brute = sites.reduce((best, s) => (greatCircleMeters(point[0], point[1], s.lat, s.lon) < greatCircleMeters(point[0], point[1], best.lat, best.lon) ? s : best));
-    expect(await page.locator('#map-nearest').textContent()).toContain(brute.id);
-    expect(await page.locator('#map-info').textContent()).toContain('equals a search of every site');
+    await expect.poll(() => page.locator('#map-nearest').textContent(), { timeout: 90_000 }).toContain(brute.id);
+    await expect.poll(() => page.locator('#map-info').textContent(), { timeout: 90_000 }).toContain('equals a search of every site');
     expect(await unlabelledControls()).toEqual([]);
     await shot('12-map');
   });
@@ -314,7 +317,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     const fresh = await connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: 45.4, lon: -111.8 });
     expect(fresh.results).toHaveLength(1);
     await page.getByRole('button', { name: 'I have stored it' }).click();
-    expect(await page.locator('#new-key-secret').count()).toBe(0);
+    await expect.poll(() => page.locator('#new-key-secret').count(), { timeout: 90_000 }).toBe(0);
     page.once('dialog', (d) => void d.accept());
     await page.getByRole('button', { name: 'Revoke fenwick finder app' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Revoked fenwick finder app');
@@ -333,5 +336,29 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(await unlabelledControls()).toEqual([]);
     await shot('14-keys-usage');
     expect(pageErrors).toEqual([]);
+  });
+  it('keeps a 100,000-row table in the grid with only the visible rows in the page', async () => {
+    await page.getByRole('button', { name: 'Site table' }).click();
+    const lines = ['id,name,lat,lon'];
+    for (let i = 0; i < 100_000; i++) lines.push(`B${i},Bulk site ${i},${(40 + (i % 1000) / 100).toFixed(4)},${(-120 + Math.floor(i / 1000) / 10).toFixed(4)}`);
+    await page.getByLabel('Import CSV or GeoJSON').setInputFiles({ name: 'bulk.csv', mimeType: 'text/csv', buffer: Buffer.from(lines.join('\n')) });
+    await expect.poll(() => status().textContent(), { timeout: 90_000 }).toMatch(/Imported 100,000 rows from bulk.csv/);
+    const grid = page.getByRole('grid');
+    await expect.poll(() => grid.getAttribute('aria-rowcount'), { timeout: 90_000 }).toBe('100002'); // header + rows + the row for new sites
+    await grid.focus();
+    await page.keyboard.press('Control+End'); // the empty row for new sites, last column
+    await expect.poll(() => page.locator('.grid-cell.active').getAttribute('id')).toBe('cell-100000-3');
+    await page.keyboard.press('ArrowUp');
+    await page.keyboard.press('Control+ArrowLeft');
+    await expect.poll(() => page.locator('.grid-cell.active').textContent()).toBe('B99999');
+    // Only the rows in sight (plus a few either side) are in the DOM.
+    const rendered = await page.locator('.grid-body .grid-row').count();
+    expect(rendered).toBeGreaterThan(10);
+    expect(rendered).toBeLessThan(60);
+    await page.keyboard.press('PageUp');
+    await page.keyboard.press('Control+Home');
+    await expect.poll(() => page.locator('.grid-cell.active').textContent()).toBe('B0');
+    await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('No problems');
+    await shot('15-100000-rows');
   });
 });

@@ -30,6 +30,7 @@ export interface KeyInfo {
   revokedAt: string | null;
   datasets?: string[] | null;
   monthlyQuota?: number | null;
+  usedThisMonth?: number;
 }
 
 export interface UsageDay {

@@ -43,7 +43,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       h('h2', {}, 'API keys'),
       form,
       secretBox,
-      h('table', { class: 'plain', id: 'keys-table' }, h('thead', {}, h('tr', {}, ...['Label', 'Datasets', 'Monthly quota', 'Created', 'State', ''].map((t) => h('th', { scope: 'col' }, t)))), keysBody),
+      h('table', { class: 'plain', id: 'keys-table' }, h('thead', {}, h('tr', {}, ...['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''].map((t) => h('th', { scope: 'col' }, t)))), keysBody),
     ),
     h(
       'div',
@@ -83,6 +83,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       {},
       h('td', {}, k.label),
       h('td', {}, k.datasets && k.datasets.length > 0 ? k.datasets.join(', ') : 'all'),
+      h('td', { class: 'num' }, k.usedThisMonth === undefined ? '—' : fmt.format(k.usedThisMonth)),
       h('td', { class: 'num' }, k.monthlyQuota ? fmt.format(k.monthlyQuota) : '—'),
       h('td', {}, k.createdAt.slice(0, 16).replace('T', ' ')),
       h('td', {}, k.revokedAt ? `revoked ${k.revokedAt.slice(0, 10)}` : 'active'),

@@ -71,7 +71,8 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     dialog,
   );
 
-  async function load(): Promise<void> {
+  /** Reloads the list; `announce` false keeps the status line of the action that just ran. */
+  async function load(announce = true): Promise<void> {
     const slug = ctx.dataset;
     if (!slug) return say('No dataset yet: create one under Site table');
     try {
@@ -89,7 +90,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
       const published = versions.filter((v) => v.publishedAt !== null && v.version !== active && (v.state === 'ready' || v.state === 'active'));
       rollbackTarget.replaceChildren(...published.map((v) => h('option', { value: String(v.version) }, `v${v.version} (published ${day(v.publishedAt)})`)));
       if (published.length === 0) rollbackTarget.append(h('option', { value: '' }, 'no earlier published version'));
-      say(`${slug}: ${versions.length} version${versions.length === 1 ? '' : 's'}${active ? `, v${active} live` : ', none live yet'}`);
+      if (announce) say(`${slug}: ${versions.length} version${versions.length === 1 ? '' : 's'}${active ? `, v${active} live` : ', none live yet'}`);
     } catch (err) {
       say(errorText(err), 'bad');
     }
@@ -137,7 +138,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
       progressText.textContent = `v${version}: build failed`;
       say(`Build of v${version} failed: ${errorText(err)}`, 'bad');
     }
-    await load();
+    await load(false);
   }
 
   async function follow(slug: string, version: number): Promise<VersionInfo> {
@@ -159,7 +160,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     } catch (err) {
       say(`Publish refused: ${errorText(err)}`, 'bad');
     }
-    await load();
+    await load(false);
   }
 
   function confirmRollback(): void {
@@ -200,7 +201,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
         say(`Roll back refused: ${errorText(err)}`, 'bad');
       }
     }
-    await load();
+    await load(false);
   }
 
   async function compare(): Promise<void> {
