@@ -258,14 +258,14 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Publish v2' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v2 of fenwick-clinics is live \(was v1\)/);
 
-    await page.getByLabel('From', { exact: true }).selectOption('1');
-    await page.getByLabel('to', { exact: true }).selectOption('2');
+    await page.locator('#diff-from').selectOption('1');
+    await page.locator('#diff-to').selectOption('2');
     await page.getByRole('button', { name: 'Compare' }).click();
     await expect.poll(() => page.locator('#diff-summary').textContent(), { timeout: 90_000 }).toBe('v1 → v2: 0 added, 0 removed, 1 changed, 49 unchanged');
     await expect.poll(() => page.locator('#diff-table tbody tr').textContent(), { timeout: 90_000 }).toBe('changedFH-001name: Fenwick Clinic 1 → Fenwick Walk-in Clinic');
     await shot('09-compared');
 
-    await page.getByLabel('Make this version live again').selectOption('1');
+    await page.locator('#rollback-to').selectOption('1');
     await page.getByRole('button', { name: 'Roll back…' }).click();
     const dialog = page.getByRole('dialog');
     await expect.poll(() => dialog.textContent(), { timeout: 90_000 }).toContain('Roll back fenwick-clinics from v2 (live now) to v1?');
