@@ -1,5 +1,6 @@
 import { Hono } from 'hono';
 import { keyRoutes } from './auth/key-routes.ts';
+import { sessionRoutes } from './auth/session-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
 import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
@@ -12,6 +13,7 @@ export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
   // The admin console is served from static assets at /console/ (wrangler.toml [assets]).
   .get('/', (c) => c.redirect('/console/', 302))
+  .route('/v1', sessionRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)

@@ -9,7 +9,7 @@ import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, SlugSchema } from '../http/params.ts';
 import { utcMonth } from '../metering/calendar.ts';
 import { parseKeyScope } from './key-scope.ts';
-import { requireCredential } from './require-credential.ts';
+import { requireRole } from './principal.ts';
 import { hashSecret, newSecret } from './secrets.ts';
 
 const CreateKeyBody = z
@@ -37,8 +37,12 @@ function keyView(row: KeyRow, usedThisMonth: number) {
 }
 
 /** API keys for apps: shown once at creation, stored only as a hash, scoped, revocable, with quotas. */
+/** Only tenant admins (and the operator, naming ?tenant=) make, list and revoke keys. */
+const admin = requireRole('tenant_admin');
+
 export const keyRoutes = new Hono<AppBindings>()
-  .use('*', requireCredential('admin'))
+  .use('/keys', admin)
+  .use('/keys/*', admin)
   .post('/keys', limitBody(16 * 1024), async (c) => {
     const body = await jsonBody(c.req.raw, CreateKeyBody);
     const db = database(c.env);

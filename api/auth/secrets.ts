@@ -3,7 +3,7 @@ export const SECRET_PREFIX = { admin: 'nva_', query: 'nvk_' } as const;
 
 export function newSecret(kind: keyof typeof SECRET_PREFIX): string {
   const bytes = crypto.getRandomValues(new Uint8Array(32));
-  return SECRET_PREFIX[kind] + base64Url(bytes);
+  return SECRET_PREFIX[kind] + base64UrlEncode(bytes);
 }
 
 export async function hashSecret(secret: string): Promise<string> {
@@ -17,8 +17,17 @@ export function hex(bytes: Uint8Array): string {
   return out;
 }
 
-function base64Url(bytes: Uint8Array): string {
+export function base64UrlEncode(bytes: Uint8Array): string {
   let bin = '';
   for (const b of bytes) bin += String.fromCharCode(b);
   return btoa(bin).replace(/\+/g, '-').replace(/\//g, '_').replace(/=+$/, '');
+}
+
+/** Decodes base64url (RFC 4648 section 5), padding optional; throws on other characters. */
+export function base64UrlDecode(text: string): Uint8Array {
+  if (!/^[A-Za-z0-9_-]*$/.test(text)) throw new TypeError('base64UrlDecode: expected base64url text');
+  const bin = atob(text.replace(/-/g, '+').replace(/_/g, '/'));
+  const out = new Uint8Array(bin.length);
+  for (let i = 0; i < bin.length; i++) out[i] = bin.charCodeAt(i);
+  return out;
 }

@@ -6,15 +6,13 @@ import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 
 /**
- * The tenant a tenant-level read acts on: the caller's own. `?tenant=SLUG` may only name the
- * caller's own tenant here; naming another needs the operator role.
+ * The tenant a tenant-level route acts on, as requireRole fixed it (api/auth/principal.ts): the
+ * caller's own, or for the operator the one named by `?tenant=SLUG`.
  */
 export async function tenantInScope(c: Context<AppBindings>): Promise<{ id: string; slug: string }> {
-  const [own] = await database(c.env).select({ id: tenants.id, slug: tenants.slug }).from(tenants).where(eq(tenants.id, c.var.tenantId));
-  if (!own) throw new ApiError(403, 'credential_unknown', 'the credential belongs to no tenant', 'authorization');
-  const asked = c.req.query('tenant');
-  if (asked !== undefined && asked !== own.slug) {
-    throw new ApiError(403, 'operator_only', `tenant: only the operator may read another tenant ("${asked}")`, 'tenant');
-  }
+  const id = c.get('tenantId');
+  if (!id) throw new ApiError(400, 'tenant_required', 'tenant: name the tenant to act on with ?tenant=SLUG', 'tenant');
+  const [own] = await database(c.env).select({ id: tenants.id, slug: tenants.slug }).from(tenants).where(eq(tenants.id, id));
+  if (!own) throw new ApiError(404, 'tenant_unknown', 'the tenant does not exist', 'tenant');
   return own;
 }

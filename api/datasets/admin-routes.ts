@@ -2,7 +2,7 @@ import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
-import { requireCredential } from '../auth/require-credential.ts';
+import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { datasets, versions } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
@@ -18,8 +18,12 @@ export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
 
 const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
 
+/** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
+const editor = requireRole('tenant_editor');
+
 export const adminDatasetRoutes = new Hono<AppBindings>()
-  .use('*', requireCredential('admin'))
+  .use('/datasets', editor)
+  .use('/datasets/*', editor)
   .post('/datasets', limitBody(16 * 1024), async (c) => {
     const body = await jsonBody(c.req.raw, CreateDatasetBody);
     const db = database(c.env);
@@ -65,7 +69,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const manifest = await runBuild(c.env, db, dataset, version, layout);
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
   })
-  .post('/datasets/:dataset/versions/:version/publish', async (c) => {
+  .post('/datasets/:dataset/versions/:version/publish', requireRole('tenant_admin'), async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));

@@ -1,5 +1,5 @@
 import { Hono } from 'hono';
-import { requireCredential } from '../auth/require-credential.ts';
+import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
@@ -13,7 +13,7 @@ import { findDataset, findVersion } from './repository.ts';
  * so a client may cache them.
  */
 export const versionTableRoutes = new Hono<AppBindings>()
-  .use('*', requireCredential('admin'))
+  .use('/datasets/*', requireRole('tenant_editor'))
   .get('/datasets/:dataset/versions/:version/table', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));

@@ -1,5 +1,5 @@
 import { sql } from 'drizzle-orm';
-import { integer, primaryKey, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
+import { check, index, integer, primaryKey, sqliteTable, text, uniqueIndex } from 'drizzle-orm/sqlite-core';
 
 /** A provider that owns datasets. */
 export const tenants = sqliteTable('tenants', {
@@ -93,6 +93,76 @@ export const usageDaily = sqliteTable(
     multiplications: integer('multiplications').notNull().default(0),
   },
   (t) => [primaryKey({ columns: [t.credentialId, t.datasetId, t.version, t.day] })],
+);
+
+export const ROLES = ['operator', 'tenant_admin', 'tenant_editor'] as const;
+export type Role = (typeof ROLES)[number];
+
+/**
+ * People who sign in. The operator runs the service and belongs to no tenant; tenant admins and
+ * editors belong to exactly one. password_hash is "pbkdf2-sha256$<iterations>$<salt>$<hash>"
+ * (api/auth/password-hash.ts). Emails are stored lower-cased.
+ */
+export const users = sqliteTable(
+  'users',
+  {
+    id: text('id').primaryKey(),
+    tenantId: text('tenant_id').references(() => tenants.id),
+    email: text('email').notNull().unique(),
+    role: text('role', { enum: ROLES }).notNull(),
+    passwordHash: text('password_hash').notNull(),
+    createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
+    disabledAt: text('disabled_at'),
+  },
+  (t) => [
+    index('users_tenant').on(t.tenantId),
+    check('users_role_tenant', sql`(${t.role} = 'operator') = (${t.tenantId} IS NULL)`),
+  ],
+);
+
+/**
+ * Signed-in sessions, keyed by SHA-256 of the 256-bit cookie secret (the secret itself is never
+ * stored). Times are milliseconds since the epoch: a session ends at expires_at, or earlier when
+ * idle (api/auth/sessions.ts).
+ */
+export const sessions = sqliteTable(
+  'sessions',
+  {
+    idHash: text('id_hash').primaryKey(),
+    userId: text('user_id').notNull().references(() => users.id),
+    createdAt: integer('created_at').notNull(),
+    lastSeenAt: integer('last_seen_at').notNull(),
+    expiresAt: integer('expires_at').notNull(),
+  },
+  (t) => [index('sessions_user').on(t.userId)],
+);
+
+/**
+ * Failed sign-ins per key ("email:<sha256>" or "address:<sha256>"), for growing delays. Unknown
+ * emails are counted exactly like known ones, so the table reveals nothing about who has an account.
+ */
+export const loginThrottle = sqliteTable('login_throttle', {
+  key: text('key').primaryKey(),
+  failures: integer('failures').notNull(),
+  lastFailureAt: integer('last_failure_at').notNull(),
+  lockedUntil: integer('locked_until').notNull(),
+});
+
+/** Who did what to which object, and when; tenant_id is null for operator-wide actions. */
+export const auditEvents = sqliteTable(
+  'audit_events',
+  {
+    id: text('id').primaryKey(),
+    tenantId: text('tenant_id').references(() => tenants.id),
+    actorKind: text('actor_kind', { enum: ['user', 'credential'] }).notNull(),
+    actorId: text('actor_id').notNull(),
+    actorLabel: text('actor_label').notNull(),
+    action: text('action').notNull(),
+    target: text('target').notNull(),
+    detail: text('detail'),
+    createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
+  },
+  (t) => [index('audit_tenant_time').on(t.tenantId, t.createdAt)],
 );
 
 /**

@@ -1,5 +1,5 @@
 import { Hono } from 'hono';
-import { requireCredential } from '../auth/require-credential.ts';
+import { requireRole } from '../auth/principal.ts';
 import { tenantInScope } from '../auth/tenant-scope.ts';
 import { database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
@@ -16,7 +16,7 @@ export function monthParam(value: string | undefined, field = 'month'): string {
 }
 
 /** `GET /v1/admin/usage?dataset=SLUG&month=YYYY-MM`: the tenant's usage, per day and in total. */
-export const usageRoutes = new Hono<AppBindings>().use('/usage', requireCredential('admin')).get('/usage', async (c) => {
+export const usageRoutes = new Hono<AppBindings>().use('/usage', requireRole('tenant_editor')).get('/usage', async (c) => {
   const tenant = await tenantInScope(c);
   const month = monthParam(c.req.query('month'));
   const datasetParam = c.req.query('dataset');

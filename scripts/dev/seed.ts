@@ -1,6 +1,7 @@
 import { createHash, randomBytes, randomUUID } from 'node:crypto';
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { hashPassword, verifyPassword } from '../../api/auth/password-hash.ts';
 import { CREDENTIALS_FILE, type DevCredentials } from '../../sdk/cli/dev-home.ts';
 import { localSql } from './wrangler.ts';
 
@@ -37,4 +38,44 @@ export function ensureDemoTenant(persistTo: string, home: string, endpoint: stri
     ].join('; '),
   );
   return { endpoint, tenant: DEMO_TENANT, adminToken, apiKey, demoDataset: DEMO_DATASET };
+}
+
+export interface DevUser {
+  email: string;
+  password: string;
+  role: 'operator' | 'tenant_admin' | 'tenant_editor';
+}
+
+/** The operator and the demo tenant's admin and editor; emails on the reserved .invalid TLD (RFC 2606). */
+const DEV_USERS: ReadonlyArray<{ name: 'operator' | 'tenantAdmin' | 'tenantEditor'; email: string; role: DevUser['role'] }> = [
+  { name: 'operator', email: 'operator@nearveil.invalid', role: 'operator' },
+  { name: 'tenantAdmin', email: 'admin@harrow-vale.invalid', role: 'tenant_admin' },
+  { name: 'tenantEditor', email: 'editor@harrow-vale.invalid', role: 'tenant_editor' },
+];
+
+/**
+ * Makes sure the three dev users exist and that their saved passwords still sign in; a user
+ * missing from the database, or whose saved password no longer fits, gets a new random password.
+ */
+export async function ensureDevUsers(persistTo: string, saved: Partial<Record<string, DevUser>> = {}): Promise<Record<string, DevUser>> {
+  const tenantId = localSql(persistTo, `SELECT id FROM tenants WHERE slug = ${sqlText(DEMO_TENANT)}`)[0]?.id as string;
+  const out: Record<string, DevUser> = {};
+  for (const spec of DEV_USERS) {
+    const [row] = localSql(persistTo, `SELECT password_hash FROM users WHERE email = ${sqlText(spec.email)} AND disabled_at IS NULL`);
+    const kept = saved[spec.name];
+    if (row && kept?.email === spec.email && (await verifyPassword(kept.password, String(row.password_hash))).ok) {
+      out[spec.name] = kept;
+      continue;
+    }
+    const password = randomBytes(18).toString('base64url');
+    const hash = await hashPassword(password);
+    const tenant = spec.role === 'operator' ? 'NULL' : sqlText(tenantId);
+    localSql(
+      persistTo,
+      `INSERT INTO users (id, tenant_id, email, role, password_hash) VALUES (${sqlText(randomUUID())}, ${tenant}, ${sqlText(spec.email)}, ${sqlText(spec.role)}, ${sqlText(hash)}) ` +
+        `ON CONFLICT(email) DO UPDATE SET password_hash = excluded.password_hash, role = excluded.role, tenant_id = excluded.tenant_id, disabled_at = NULL`,
+    );
+    out[spec.name] = { email: spec.email, password, role: spec.role };
+  }
+  return out;
 }

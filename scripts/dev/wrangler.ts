@@ -16,9 +16,13 @@ export function wrangler(args: string[]): string {
   return run.stdout;
 }
 
-/** Starts `wrangler dev` in the background; its output goes to ours, prefixed. */
-export function startWranglerDev(args: string[]): ChildProcess {
-  const child = spawn(process.execPath, [WRANGLER, 'dev', ...args], { cwd: PROJECT_ROOT, env: QUIET_ENV, stdio: ['ignore', 'pipe', 'pipe'] });
+/**
+ * Starts `wrangler dev` in the background in its own process group (wrangler runs workerd and
+ * esbuild as children), so stopWranglerDev can end all of them; its output goes to ours, prefixed.
+ */
+export function startWranglerDev(args: string[], extraEnv: Record<string, string> = {}): ChildProcess {
+  const env = { ...QUIET_ENV, ...extraEnv };
+  const child = spawn(process.execPath, [WRANGLER, 'dev', ...args], { cwd: PROJECT_ROOT, env, stdio: ['ignore', 'pipe', 'pipe'], detached: true });
   const relay = (stream: NodeJS.ReadableStream | null, out: NodeJS.WriteStream) =>
     stream?.on('data', (chunk: Buffer) => {
       for (const line of chunk.toString().split('\n')) if (line.trim()) out.write(`[worker] ${line}\n`);
@@ -33,4 +37,20 @@ export function localSql(persistTo: string, sql: string): Array<Record<string, u
   const out = wrangler(['d1', 'execute', 'DB', '--local', '--persist-to', persistTo, '--json', '--command', sql]);
   const parsed = JSON.parse(out.slice(out.indexOf('['))) as Array<{ results: Array<Record<string, unknown>> }>;
   return parsed.at(-1)?.results ?? [];
+}
+
+/** Ends wrangler dev and its children: SIGTERM to the group, SIGKILL if it is still there after 3 s. */
+export async function stopWranglerDev(child: ChildProcess): Promise<void> {
+  if (child.pid === undefined || child.exitCode !== null) return;
+  const signalGroup = (signal: NodeJS.Signals) => {
+    try {
+      process.kill(-child.pid!, signal);
+    } catch {
+      // the group is gone already
+    }
+  };
+  signalGroup('SIGTERM');
+  const exited = new Promise<boolean>((resolve) => child.once('exit', () => resolve(true)));
+  const late = new Promise<boolean>((resolve) => setTimeout(() => resolve(false), 3000).unref());
+  if (!(await Promise.race([exited, late]))) signalGroup('SIGKILL');
 }

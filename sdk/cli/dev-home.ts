@@ -21,6 +21,8 @@ export interface DevCredentials {
   adminToken: string;
   apiKey: string;
   demoDataset: string;
+  /** Console sign-ins (POST /v1/session) made by the first `npm start`: operator, tenant admin, editor. */
+  users?: Record<string, { email: string; password: string; role: string }>;
 }
 
 export const CREDENTIALS_FILE = 'dev-credentials.json';

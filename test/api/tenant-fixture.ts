@@ -9,6 +9,7 @@ export const worker = (input: Request | string, init?: RequestInit) => exports.d
 
 export interface TestTenant {
   tenantId: string;
+  slug: string;
   adminToken: string;
   apiKey: string;
   apiKeyId: string;
@@ -27,7 +28,7 @@ export async function createTestTenant(slug = 't-' + crypto.randomUUID().slice(0
     env.DB.prepare('INSERT INTO credentials (id, tenant_id, kind, secret_hash, label) VALUES (?, ?, ?, ?, ?)').bind(
       apiKeyId, tenantId, 'query', await hashSecret(apiKey), 'test key'),
   ]);
-  return { tenantId, adminToken, apiKey, apiKeyId };
+  return { tenantId, slug, adminToken, apiKey, apiKeyId };
 }
 
 export function adminRequest(t: TestTenant, method: string, path: string, body?: BodyInit, contentType?: string): Promise<Response> {
@@ -57,7 +58,7 @@ export async function publishDataset(t: TestTenant, slug: string, csv: string): 
 
 /** Everything a refused request must leave untouched: D1 rows of interest and the R2 key list. */
 export async function storedState(): Promise<string> {
-  const tables = ['tenants', 'credentials', 'datasets', 'versions', 'usage_daily'];
+  const tables = ['tenants', 'credentials', 'datasets', 'versions', 'usage_daily', 'users', 'audit_events'];
   const rows = await Promise.all(tables.map((t) => env.DB.prepare(`SELECT * FROM ${t} ORDER BY 1, 2`).all()));
   const blobs = await env.BLOBS.list();
   return JSON.stringify({ rows: rows.map((r) => r.results), blobs: blobs.objects.map((o) => `${o.key}:${o.size}`) });

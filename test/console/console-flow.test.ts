@@ -130,17 +130,23 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(outside).toEqual([]);
   });
 
-  it('signs in', async () => {
-    const credentials = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as Record<string, string>;
-    apiKey = credentials.apiKey!;
-    // A wrong token is refused with a message, and nothing opens.
-    await page.getByLabel('Admin token', { exact: true }).fill('nva_wrong');
-    await page.getByRole('button', { name: 'Sign in with token' }).click();
-    await expect.poll(() => page.locator('.status.bad').textContent(), { timeout: 90_000 }).toMatch(/not known/);
-    await page.getByLabel('Admin token', { exact: true }).fill(credentials.adminToken!);
-    await page.getByRole('button', { name: 'Sign in with token' }).click();
-    await page.getByRole('grid').waitFor();
-    await expect.poll(() => page.locator('header .who').textContent(), { timeout: 90_000 }).toContain('admin token');
+  it('signs in with the tenant admin account (a wrong password is refused with a message)', async () => {
+    const credentials = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as {
+      apiKey: string;
+      users: Record<string, { email: string; password: string }>;
+    };
+    apiKey = credentials.apiKey;
+    const admin = credentials.users.tenantAdmin!;
+    await page.getByLabel('Email').fill(admin.email);
+    await page.getByLabel('Password', { exact: true }).fill('not the password');
+    await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+    await expect.poll(() => page.locator('.status.bad').textContent(), { timeout: 90_000 }).toMatch(/.+/);
+    expect(await page.getByRole('grid').count()).toBe(0);
+    await page.getByLabel('Password', { exact: true }).fill(admin.password);
+    await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+    await page.getByRole('grid').waitFor({ timeout: 90_000 });
+    await expect.poll(() => page.locator('header .who').textContent(), { timeout: 90_000 }).toContain(admin.email);
+    await expect.poll(() => page.locator('header .who').textContent(), { timeout: 90_000 }).toContain('tenant admin');
     await shot('02-signed-in');
   });
 

@@ -1,5 +1,6 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { createServer, type AddressInfo } from 'node:net';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -15,7 +16,15 @@ import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
 const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const PORT = 8797;
+/** A free loopback port, so several checkouts on one machine can run this test at once. */
+const PORT = await new Promise<number>((resolve, reject) => {
+  const probe = createServer();
+  probe.once('error', reject);
+  probe.listen(0, '127.0.0.1', () => {
+    const { port } = probe.address() as AddressInfo;
+    probe.close(() => resolve(port));
+  });
+});
 const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
 const env = { ...process.env, PORT: String(PORT), NEARVEIL_STATE: join(scratch, 'state'), NEARVEIL_HOME: join(scratch, 'home') };
 let server: ChildProcess;
@@ -47,6 +56,23 @@ describe('README commands', () => {
   it('starts on 127.0.0.1, answers /healthz and prints where the credentials are', async () => {
     expect((await fetch(`http://127.0.0.1:${PORT}/healthz`)).status).toBe(200);
     expect(serverLog).toContain(join(scratch, 'home', 'dev-credentials.json'));
+  });
+
+  it('writes the operator, tenant admin and editor sign-ins, and they sign in with the right roles', async () => {
+    const saved = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as {
+      adminToken: string;
+      users: Record<string, { email: string; password: string; role: string }>;
+    };
+    expect(saved.adminToken).toMatch(/^nva_/);
+    expect(Object.values(saved.users).map((u) => u.role).sort()).toEqual(['operator', 'tenant_admin', 'tenant_editor']);
+    const admin = saved.users.tenantAdmin!;
+    const res = await fetch(`http://127.0.0.1:${PORT}/v1/session`, {
+      method: 'POST',
+      headers: { 'content-type': 'application/json' },
+      body: JSON.stringify({ email: admin.email, password: admin.password }),
+    });
+    expect(res.status).toBe(200);
+    expect(((await res.json()) as { user: { role: string; tenant: { slug: string } } }).user).toMatchObject({ role: 'tenant_admin', tenant: { slug: 'demo' } });
   });
 
   it('`nearveil query --json` returns the brute-force nearest demo site', () => {
