@@ -137,7 +137,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     };
     apiKey = credentials.apiKey;
     const admin = credentials.users.tenantAdmin!;
-    await page.getByLabel('Email').fill(admin.email);
+    await page.getByLabel('Email', { exact: true }).fill(admin.email);
     await page.getByLabel('Password', { exact: true }).fill('not the password');
     await page.getByRole('button', { name: 'Sign in', exact: true }).click();
     await expect.poll(() => page.locator('.status.bad').textContent(), { timeout: 90_000 }).toMatch(/.+/);
