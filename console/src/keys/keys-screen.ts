@@ -54,6 +54,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
         { class: 'toolbar' },
         h('label', { for: 'usage-month' }, 'Month ', month),
         h('label', { for: 'usage-dataset' }, 'Dataset ', usageDataset),
+        h('button', { type: 'button', onclick: () => void loadUsage() }, 'Refresh usage'),
         h('button', { type: 'button', onclick: () => void statement('csv') }, 'Download statement (CSV)'),
         h('button', { type: 'button', onclick: () => void statement('json') }, 'Download statement (JSON)'),
       ),
