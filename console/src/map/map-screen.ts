@@ -141,7 +141,12 @@ export function mapScreen(ctx: ConsoleContext): Screen {
   function renderFacts(m: Manifest, d: MapData): void {
     const lengths = d.lists.map((l) => l.length);
     const mean = lengths.reduce((a, b) => a + b, 0) / Math.max(1, lengths.length);
-    const layout = m.layout.kind === 'grid' ? `uniform grid ${m.layout.rows} × ${m.layout.cols} + outside` : `adaptive (kd), ${fmt.format(d.lists.length)} regions`;
+    const layout =
+      m.layout.kind === 'grid'
+        ? `uniform grid ${m.layout.rows} × ${m.layout.cols} + outside`
+        : m.layout.kind === 'kd'
+          ? `adaptive (kd), ${fmt.format(d.lists.length)} regions`
+          : `veiled: public coarse grid ${m.layout.rows} × ${m.layout.cols}, ${fmt.format(m.layout.regions)} private regions`;
     const pairs: Array<[string, string]> = [
       ['Layout', layout],
       ['Sites', fmt.format(d.ids.length)],
@@ -277,6 +282,17 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     const ll = projection.inverse(...fromPixel(px, py, w, hh));
     if (!ll) return say('That point is off the globe', 'bad');
     const [lat, lon] = ll;
+    if (manifest.layout.kind === 'veiled') {
+      let best = 0;
+      for (let i = 1; i < data.lats.length; i++) {
+        if (greatCircleMeters(lat, lon, data.qlats[i]!, data.qlons[i]!) < greatCircleMeters(lat, lon, data.qlats[best]!, data.qlons[best]!)) best = i;
+      }
+      info.replaceChildren(
+        h('p', {}, `Point ${lat.toFixed(5)}, ${lon.toFixed(5)}: nearest site ${data.ids[best]} (search of every site).`),
+        h('p', { class: 'grid-note' }, 'This version uses the veiled layout: its regions are fetched privately by apps, so the map shows only the public coarse grid.'),
+      );
+      return;
+    }
     const where = locateRegion(manifest, lat, lon);
     const list = Array.from(data.lists[where.region] ?? []);
     // What a client would decode: the candidates at their stored (quantised) coordinates.

@@ -29,7 +29,9 @@ export function computeMapData(csv: string, manifest: Manifest): MapData {
   const qlats = Float64Array.from(sites, (s) => dequantiseLat(quantiseLat(s.lat)));
   const qlons = Float64Array.from(sites, (s) => dequantiseLon(quantiseLon(s.lon)));
   const points = buildSitePoints(qlats, qlons);
-  const lists = manifest.layout.kind === 'grid' ? gridCandidateLists(points, manifest.layout) : kdCandidateLists(points, manifest.layout);
+  const layout = manifest.layout;
+  // A veiled layout's regions are not public: no lists to rebuild here (the map shows its coarse grid).
+  const lists = layout.kind === 'grid' ? gridCandidateLists(points, layout) : layout.kind === 'kd' ? kdCandidateLists(points, layout) : [];
   return {
     ids: sites.map((s) => s.id),
     names: sites.map((s) => s.name),

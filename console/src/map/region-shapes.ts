@@ -11,13 +11,17 @@ export interface RegionBox {
   lonMax: number;
 }
 
-/** Boxes of every region except a grid's "outside" (which is everything else). */
+/**
+ * Boxes of every region except a grid's "outside" (which is everything else). A veiled layout
+ * publishes only its coarse grid (its regions are fetched privately), so only those cells show.
+ */
 export function regionBoxes(layout: Layout): RegionBox[] {
-  if (layout.kind === 'grid') {
+  if (layout.kind === 'grid' || layout.kind === 'veiled') {
+    const g = { kind: 'grid' as const, latMin: layout.latMin, latMax: layout.latMax, lonMin: layout.lonMin, lonMax: layout.lonMax, rows: layout.rows, cols: layout.cols };
     const out: RegionBox[] = [];
-    for (let i = 0; i < layout.rows; i++) {
-      for (let j = 0; j < layout.cols; j++) {
-        out.push({ region: i * layout.cols + j, latMin: latEdge(layout, i), latMax: latEdge(layout, i + 1), lonMin: lonEdge(layout, j), lonMax: lonEdge(layout, j + 1) });
+    for (let i = 0; i < g.rows; i++) {
+      for (let j = 0; j < g.cols; j++) {
+        out.push({ region: i * g.cols + j, latMin: latEdge(g, i), latMax: latEdge(g, i + 1), lonMin: lonEdge(g, j), lonMax: lonEdge(g, j + 1) });
       }
     }
     return out;
