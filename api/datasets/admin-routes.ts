@@ -1,6 +1,8 @@
 import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
+import { encodeAllRecords } from '../../core/details/record-codec.ts';
+import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
@@ -53,6 +55,8 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
     const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    // Records over the details size limit are refused now, naming their rows, not at build time.
+    encodeAllRecords(table);
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
@@ -63,8 +67,8 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
     const layout = c.req.query('layout') ?? 'auto';
-    if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
-      throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
+    if (!isLayoutChoice(layout)) {
+      throw new ApiError(400, 'invalid_layout', `layout: expected ${LAYOUT_CHOICES.join(', ')}, got "${layout}"`, 'layout');
     }
     const manifest = await runBuild(c.env, db, dataset, version, layout);
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
@@ -105,3 +109,5 @@ function versionView(row: VersionRow) {
     publishedAt: row.publishedAt,
   };
 }
+
+const isLayoutChoice = (value: string): value is LayoutChoice => (LAYOUT_CHOICES as readonly string[]).includes(value);

@@ -15,6 +15,8 @@ export interface Site {
 export interface SiteTable {
   sites: Site[];
   detailColumns: string[];
+  /** The spreadsheet row of each site (header = row 1), when the table was read from a file: errors name it. */
+  rows?: number[];
 }
 
 /** Largest table a build accepts; larger ones get `site_table_too_large` (HTTP 413). */
@@ -110,7 +112,7 @@ export function parseSiteTable(csv: string): SiteTable {
  */
 export function inspectSiteRecords(records: string[][], problems: InputIssue[] = []): { table: SiteTable; issues: InputIssue[] } {
   const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
-  if (records.length === 0) return { table: { sites: [], detailColumns: [] }, issues: [{ row: 1, message: 'expected a header row, got none' }] };
+  if (records.length === 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues: [{ row: 1, message: 'expected a header row, got none' }] };
   const header = records[0]!.map((h) => h.trim());
   const issues: InputIssue[] = [...problems];
   const position = new Map<string, number>();
@@ -130,7 +132,7 @@ export function inspectSiteRecords(records: string[][], problems: InputIssue[] =
     }
   }
   if (records.length === 1) issues.push({ row: 2, message: 'expected at least one site row, got none' });
-  if (issues.length > 0) return { table: { sites: [], detailColumns: [] }, issues };
+  if (issues.length > 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues };
 
   const at = (key: string) => position.get(key);
   const nameAt = at('name');
@@ -139,6 +141,7 @@ export function inspectSiteRecords(records: string[][], problems: InputIssue[] =
   const detailColumns = detailAt.map((i) => header[i]!);
   const firstRowOfId = new Map<string, number>();
   const sites: Site[] = [];
+  const rows: number[] = [];
   for (let r = 1; r < records.length; r++) {
     const row = r + 1;
     const cells = records[r]!;
@@ -169,6 +172,7 @@ export function inspectSiteRecords(records: string[][], problems: InputIssue[] =
     // fromEntries defines own properties, so a column named "__proto__" stays a plain detail.
     const details: Record<string, string> = Object.fromEntries(detailAt.map((i, k) => [detailColumns[k]!, cells[i]!]));
     sites.push({ id, name: nameText === '' ? null : nameText, lat, lon, details });
+    rows.push(row);
   }
-  return { table: { sites, detailColumns }, issues };
+  return { table: { sites, detailColumns, rows }, issues };
 }
