@@ -1,4 +1,7 @@
 import { Hono } from 'hono';
+import { tenantRoutes } from './accounts/tenant-routes.ts';
+import { userRoutes } from './accounts/user-routes.ts';
+import { auditRoutes } from './audit/audit-routes.ts';
 import { keyRoutes } from './auth/key-routes.ts';
 import { sessionRoutes } from './auth/session-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
@@ -14,6 +17,9 @@ export const app = new Hono<AppBindings>()
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)
+  .route('/v1/admin', userRoutes)
+  .route('/v1/admin', auditRoutes)
+  .route('/v1/operator', tenantRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);
