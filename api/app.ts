@@ -9,10 +9,12 @@ import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
 import { usageRoutes } from './metering/usage-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
+import { referenceRoutes } from './reference/reference-routes.ts';
 
 /** The whole HTTP surface; routes live in their feature folders. */
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
+  .route('/', referenceRoutes)
   .route('/v1', sessionRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', keyRoutes)

@@ -13,7 +13,7 @@ import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from './principal.ts';
 import { hashSecret, newSecret } from './secrets.ts';
 
-const CreateKeyBody = z
+export const CreateKeyBody = z
   .object({
     label: z.string().trim().min(1).max(100),
     /** Dataset slugs the key may read; absent means every dataset of the tenant, now and later. */

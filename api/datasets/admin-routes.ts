@@ -17,7 +17,7 @@ import { runBuild, sha256Hex } from './run-build.ts';
 /** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
 export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
 
-const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+export const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
 
 /** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
 const editor = requireRole('tenant_editor');
