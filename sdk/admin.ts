@@ -1,3 +1,4 @@
+import type { LayoutChoice } from '../core/build/choose-layout.ts';
 import { NearveilError, send, type FetchLike } from './http.ts';
 
 export interface AdminOptions {
@@ -69,8 +70,11 @@ export function connectAdmin(options: AdminOptions) {
       const response = await send(http, 'POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`, csv, 'text/csv; charset=utf-8');
       return (await response.json()) as VersionInfo;
     },
-    /** layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper. */
-    build: (dataset: string, version: number, layout: 'auto' | 'grid' | 'adaptive' = 'auto') =>
+    /**
+     * layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto'
+     * the cheaper of those; 'veiled' only a coarse grid, at the price of a second private round.
+     */
+    build: (dataset: string, version: number, layout: LayoutChoice = 'auto') =>
       json<VersionInfo & { matrix: { rows: number; columns: number; ones: number } }>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`),
     publish: (dataset: string, version: number) =>
       json<{ dataset: string; activeVersion: number; previousVersion: number | null }>('POST', `${versionPath(dataset, version)}/publish`),

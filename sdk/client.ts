@@ -7,6 +7,7 @@ import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
 import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
+import { fetchCellRecord, type PartitionRoundCost } from './partition-round.ts';
 
 export interface ConnectOptions {
   /** Base URL of the nearveil API, for example http://127.0.0.1:8787 */
@@ -37,6 +38,12 @@ export interface QueryCost {
   bytesDown: number;
   serverMs: number | null;
   clientMs: number;
+  /**
+   * Veiled layouts only: the first round (the coarse cell's record from the partition matrix).
+   * bytesUp, bytesDown, serverMs and clientMs above then count both rounds; rows, columns and
+   * matrixOnes stay the cell matrix's.
+   */
+  partition?: PartitionRoundCost;
 }
 
 export interface NearestResult {
@@ -73,7 +80,9 @@ export function connect(options: ConnectOptions): NearveilClient {
       throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
     }
     const key = await keyPair();
-    const region = locateRegion(m, point.lat, point.lon);
+    // A veiled layout publishes no partition: its coarse cell's record comes from a first private round.
+    const first = m.layout.kind === 'veiled' ? await fetchCellRecord(http, dataset, m, key, point) : undefined;
+    const region = locateRegion(m, point.lat, point.lon, first?.record);
     const t0 = performance.now();
     const body = encodeQuery(key.n, makeQuery(key, m.matrix.columns, region.column));
     const t1 = performance.now();
@@ -87,7 +96,9 @@ export function connect(options: ConnectOptions): NearveilClient {
     }
     const bits = decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount);
     const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, 1);
-    const clientMs = t1 - t0 + (performance.now() - t2);
+    const clientMs = t1 - t0 + (performance.now() - t2) + (first?.cost.clientMs ?? 0);
+    const serverMs = serverTimingMs(response);
+    const firstServerMs = first ? first.cost.serverMs : 0;
     return {
       dataset,
       version: m.version,
@@ -97,10 +108,11 @@ export function connect(options: ConnectOptions): NearveilClient {
         rows: m.matrix.rows,
         columns: m.matrix.columns,
         matrixOnes: m.matrix.ones,
-        bytesUp: body.length,
-        bytesDown: answerBytes.length,
-        serverMs: serverTimingMs(response),
+        bytesUp: body.length + (first?.cost.bytesUp ?? 0),
+        bytesDown: answerBytes.length + (first?.cost.bytesDown ?? 0),
+        serverMs: serverMs === null || firstServerMs === null ? null : serverMs + firstServerMs,
         clientMs,
+        ...(first ? { partition: first.cost } : {}),
       },
     };
   }

@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
+import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
@@ -66,8 +67,8 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
     const layout = c.req.query('layout') ?? 'auto';
-    if (layout !== 'auto' && layout !== 'grid' && layout !== 'adaptive') {
-      throw new ApiError(400, 'invalid_layout', `layout: expected auto, grid or adaptive, got "${layout}"`, 'layout');
+    if (!isLayoutChoice(layout)) {
+      throw new ApiError(400, 'invalid_layout', `layout: expected ${LAYOUT_CHOICES.join(', ')}, got "${layout}"`, 'layout');
     }
     const target = `dataset ${dataset.slug} v${version.number}`;
     let manifest: Awaited<ReturnType<typeof runBuild>>;
@@ -119,3 +120,5 @@ function versionView(row: VersionRow) {
     publishedAt: row.publishedAt,
   };
 }
+
+const isLayoutChoice = (value: string): value is LayoutChoice => (LAYOUT_CHOICES as readonly string[]).includes(value);

@@ -11,7 +11,7 @@ import { moveVersionState, type DatasetRow, type VersionRow } from './repository
 
 /**
  * Turns a draft version into a stored cell matrix and manifest. Blobs are written first
- * (matrix content-addressed, then the manifest); only then does the row say "ready". A failure
+ * (matrices content-addressed, then the manifest); only then does the row say "ready". A failure
  * marks the version "failed" with its reason and never touches the active version.
  */
 export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice = 'auto'): Promise<Manifest> {
@@ -25,6 +25,8 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     const matrixKey = blobKeys.matrix(built.manifest.contentHash);
     const manifestKey = blobKeys.manifest(dataset.id, version.number);
     await putBlob(env, matrixKey, built.matrixBlob);
+    // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
+    if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
     await putBlob(env, manifestKey, JSON.stringify(built.manifest));
     await moveVersionState(db, { ...version, state: 'building' }, ['building'], 'ready', {
       matrixKey,

@@ -1,5 +1,6 @@
 import { Hono } from 'hono';
 import { cors } from 'hono/cors';
+import type { Manifest } from '../../core/geo/manifest.ts';
 import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
 import { answerWithPlan } from '../../core/pir/planned-answer.ts';
 import { validateQuery } from '../../core/pir/validate.ts';
@@ -16,6 +17,7 @@ import { secondsToNextMonth, utcMonth } from '../metering/calendar.ts';
 import { countRejections } from '../metering/count-rejections.ts';
 import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
+import { blobKeys } from '../storage/blobs.ts';
 import { splitColumns } from '../../core/pir/fan-out.ts';
 import { answerByParts } from './fanned-answer.ts';
 import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
@@ -48,7 +50,8 @@ export const publicRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, slug);
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
-    const columns = manifest.matrix.columns;
+    const target = queriedMatrix(manifest, version, c.req.query('matrix'));
+    const columns = target.columns;
     const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), columns);
     // The exact size a query on this version can have, checked as the body streams in.
     const body = await readLimitedBytes(c.req.raw, largest);
@@ -68,14 +71,14 @@ export const publicRoutes = new Hono<AppBindings>()
     let multiplications: number;
     let serverMs: number;
     try {
-      const matrix = await loadMatrix(c.env, version.matrixKey!);
+      const matrix = await loadMatrix(c.env, target.key);
       const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
-      const parts = splitColumns(columns, manifest.matrix.plan.products, perPart);
+      const parts = splitColumns(columns, target.plan.products, perPart);
       const answered =
         parts.length > 1 && c.env.PARTS
-          ? await answerByParts(matrix, version.matrixKey!, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
+          ? await answerByParts(matrix, target.key, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
           : // The plan the build chose for this matrix (recorded in its manifest).
-            answerWithPlan(matrix, values, answerPlanFor(manifest, matrix), productEngine(n));
+            answerWithPlan(matrix, values, answerPlanFor(target.plan, target.contentHash, matrix), productEngine(n));
       multiplications = answered.products;
       answer = encodeAnswer((n.toString(2).length + 7) >> 3, answered.rows);
       serverMs = performance.now() - started;
@@ -99,6 +102,23 @@ export const publicRoutes = new Hono<AppBindings>()
       'Cache-Control': 'no-store',
     });
   });
+
+/**
+ * The matrix a query asks: `?matrix=cells` (the default: candidate lists) or `?matrix=partition`
+ * (a veiled layout's coarse cell records, the first of its two private rounds). Both are bit
+ * matrices answered, fanned out and metered alike.
+ */
+function queriedMatrix(manifest: Manifest, version: VersionRow, which: string | undefined) {
+  if (which === undefined || which === 'cells') {
+    return { key: version.matrixKey!, columns: manifest.matrix.columns, plan: manifest.matrix.plan, contentHash: manifest.contentHash };
+  }
+  if (which !== 'partition') throw new ApiError(400, 'invalid_matrix', `matrix: expected cells or partition, got "${which}"`, 'matrix');
+  if (!manifest.partition) {
+    throw new ApiError(400, 'no_partition_matrix', `matrix: version ${version.number} has a ${manifest.layout.kind} layout, which has no partition matrix`, 'matrix');
+  }
+  const p = manifest.partition;
+  return { key: blobKeys.matrix(p.contentHash), columns: p.columns, plan: p.plan, contentHash: p.contentHash };
+}
 
 function activeVersionOf(dataset: DatasetRow): number {
   if (dataset.activeVersion === null) {

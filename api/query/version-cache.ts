@@ -1,4 +1,4 @@
-import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
+import { ManifestSchema, type Manifest, type PlanRecord } from '../../core/geo/manifest.ts';
 import type { AnswerPlan } from '../../core/pir/answer-plan.ts';
 import { mineMatrix, minedProducts, type MinedPlan } from '../../core/pir/mined-plan.ts';
 import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
@@ -43,21 +43,21 @@ export async function loadMatrix(env: Env, key: string): Promise<BitMatrix> {
 }
 
 /**
- * The answer plan the build recorded. A mined plan is mined again from the matrix (deterministic)
+ * The answer plan the build recorded for the matrix with this content hash (the cell matrix, or a
+ * veiled layout's partition matrix). A mined plan is mined again from the matrix (deterministic)
  * once per isolate and checked against the product count the build recorded.
  */
-export function answerPlanFor(manifest: Manifest, matrix: BitMatrix): AnswerPlan {
-  const record = manifest.matrix.plan;
+export function answerPlanFor(record: PlanRecord, contentHash: string, matrix: BitMatrix): AnswerPlan {
   if (record.kind === 'plain') return { kind: 'plain' };
   if (record.kind === 'blocked') return { kind: 'blocked', blockColumns: record.blockColumns };
-  let mined = minedPlans.get(manifest.contentHash);
+  let mined = minedPlans.get(contentHash);
   if (!mined) {
     mined = mineMatrix(matrix);
     if (minedProducts(mined) !== record.products) {
-      throw new Error(`mined plan of ${manifest.contentHash} costs ${minedProducts(mined)} products, the build recorded ${record.products}`);
+      throw new Error(`mined plan of ${contentHash} costs ${minedProducts(mined)} products, the build recorded ${record.products}`);
     }
     if (minedPlans.size >= MAX_MATRICES) minedPlans.delete(minedPlans.keys().next().value!);
-    minedPlans.set(manifest.contentHash, mined);
+    minedPlans.set(contentHash, mined);
   }
   return { kind: 'mined', mined };
 }

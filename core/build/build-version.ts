@@ -1,4 +1,4 @@
-import { ManifestSchema, type Manifest } from '../geo/manifest.ts';
+import { ManifestSchema, type Layout, type Manifest, type PartitionMatrix } from '../geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
 import type { SiteTable } from '../geo/site-table.ts';
@@ -10,15 +10,31 @@ import type { PlanRecord } from '../geo/manifest.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
+import { fillPartitionMatrix } from './fill-partition-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
 export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
+  /** Veiled layouts only: the partition matrix (first private round) and its stored form. */
+  partition?: { matrix: BitMatrix; blob: Uint8Array<ArrayBuffer> };
   stats: { regions: number; maxList: number; meanList: number; buildMs: number };
-  /** Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`). */
-  layoutsTried: Array<{ label: string; kind: 'grid' | 'kd'; regions: number; maxList: number; chosen: boolean; cost: ShapeCost }>;
+  /**
+   * Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`);
+   * veiled ones also give each round's cost. `eligible` is false for layouts weighed only for
+   * comparison (veiled under 'auto', or all others when `weighAll` is set).
+   */
+  layoutsTried: Array<{
+    label: string;
+    kind: Layout['kind'];
+    regions: number;
+    maxList: number;
+    chosen: boolean;
+    eligible: boolean;
+    cost: ShapeCost;
+    rounds?: { partition: ShapeCost; cells: ShapeCost };
+  }>;
 }
 
 /** Moduli a client may use against this version (see the design's protocol section). */
@@ -34,7 +50,7 @@ const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean },
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -52,11 +68,24 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto');
+  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', { weighAll: meta.weighAll === true });
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
   const planned = choosePlan(matrix);
+  const partition = choice.partition && choice.layout.kind === 'veiled' ? fillPartitionMatrix(choice.partition.records, choice.layout, choice.partition.packing) : undefined;
+  const partitionBlob = partition ? encodeMatrixBlob(partition) : undefined;
+  let partitionRecord: PartitionMatrix | undefined;
+  if (partition && partitionBlob) {
+    partitionRecord = {
+      rows: partition.rows,
+      columns: partition.columns,
+      cellsPerColumn: choice.partition!.packing.regionsPerColumn,
+      ones: countOnes(partition),
+      plan: planRecord(choosePlan(partition)),
+      contentHash: await sha256Hex(partitionBlob),
+    };
+  }
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,
@@ -75,12 +104,14 @@ export async function buildVersion(
       plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
+    ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
   return {
     manifest,
     matrix,
     matrixBlob,
+    ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
       maxList: record.slotsPerRegion,
@@ -93,7 +124,9 @@ export async function buildVersion(
       regions: g.lists.length,
       maxList: g.slotsPerRegion,
       chosen: g === choice,
+      eligible: g.eligible,
       cost: g.cost,
+      ...(g.partition ? { rounds: g.partition.rounds } : {}),
     })),
   };
 }

@@ -37,3 +37,25 @@ export function shapeCost(rows: number, columns: number, products: number, decod
   const client = decodedRows * model.clientSecondsPerDecodedRow + columns * model.clientSecondsPerColumn;
   return { rows, columns, bytesUp, bytesDown, products, decodedRows, seconds: { transfer, server, client, total: transfer + server + client } };
 }
+
+/**
+ * Two rounds run one after the other (a veiled layout's partition round, then its cell round):
+ * bytes, products, decoded rows and seconds add up; rows and columns are the second round's.
+ */
+export function sumCosts(first: ShapeCost, second: ShapeCost): ShapeCost {
+  const seconds = {
+    transfer: first.seconds.transfer + second.seconds.transfer,
+    server: first.seconds.server + second.seconds.server,
+    client: first.seconds.client + second.seconds.client,
+    total: first.seconds.total + second.seconds.total,
+  };
+  return {
+    rows: second.rows,
+    columns: second.columns,
+    bytesUp: first.bytesUp + second.bytesUp,
+    bytesDown: first.bytesDown + second.bytesDown,
+    products: first.products + second.products,
+    decodedRows: first.decodedRows + second.decodedRows,
+    seconds,
+  };
+}

@@ -1,5 +1,6 @@
 import { z } from 'zod';
 import { LAT_BITS, LON_BITS } from './quantise.ts';
+import { coarseCellCount } from './veiled-layout.ts';
 
 /**
  * The public manifest of one built version: everything a client needs to find its region, ask
@@ -32,12 +33,37 @@ export const KdLayoutSchema = z
   })
   .refine((k) => isPreorderTree(k.nodes), { error: 'layout: expected nodes to be one complete tree in preorder' });
 
-export const LayoutSchema = z.union([GridLayoutSchema, KdLayoutSchema]);
+/**
+ * The veiled layout (veiled-layout.ts): only a coarse grid over a whole-degree box is public; each
+ * coarse cell's kd partition is fetched privately from the partition matrix.
+ */
+export const VeiledLayoutSchema = z
+  .object({
+    kind: z.literal('veiled'),
+    latMin: z.number().int().min(-90).max(90),
+    latMax: z.number().int().min(-90).max(90),
+    lonMin: z.number().int().min(-180).lt(180),
+    lonMax: z.number().int(),
+    rows: count,
+    cols: count,
+    splitBits: z.number().int().min(0).max(8),
+    offsetBits: z.number().int().min(1).max(31),
+    partitionBits: count,
+    regions: count,
+  })
+  .refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' })
+  .refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, { error: 'layout: expected lonMin < lonMax <= lonMin + 360' })
+  .refine((g) => 2 ** g.offsetBits >= g.regions, { error: 'layout: expected offsetBits to hold every region number' })
+  .refine((g) => g.partitionBits >= g.offsetBits + 1, { error: 'layout: expected partitionBits to hold an offset and a leaf' });
+
+export const LayoutSchema = z.union([GridLayoutSchema, KdLayoutSchema, VeiledLayoutSchema]);
 export type Layout = z.infer<typeof LayoutSchema>;
 
-/** Regions of a layout: grid cells plus "outside", or kd leaves. */
+/** Regions of a layout: grid cells plus "outside", kd leaves, or the veiled layout's total. */
 export function regionCount(layout: Layout): number {
-  return layout.kind === 'grid' ? layout.rows * layout.cols + 1 : layout.nodes.filter((n) => n === null).length;
+  if (layout.kind === 'grid') return layout.rows * layout.cols + 1;
+  if (layout.kind === 'veiled') return layout.regions;
+  return layout.nodes.filter((n) => n === null).length;
 }
 
 function isPreorderTree(nodes: ReadonlyArray<unknown>): boolean {
@@ -76,6 +102,20 @@ export const PlanRecordSchema = z.discriminatedUnion('kind', [
 ]);
 export type PlanRecord = z.infer<typeof PlanRecordSchema>;
 
+/**
+ * The partition matrix of a veiled layout: one padded record per coarse cell, cellsPerColumn
+ * records stacked in a column (like regions in the cell matrix). Stored content-addressed.
+ */
+export const PartitionMatrixSchema = z.object({
+  rows: count,
+  columns: count,
+  cellsPerColumn: count,
+  ones: z.number().int().min(0),
+  plan: PlanRecordSchema,
+  contentHash: z.string().regex(/^[0-9a-f]{64}$/),
+});
+export type PartitionMatrix = z.infer<typeof PartitionMatrixSchema>;
+
 export const ManifestSchema = z
   .object({
     format: z.literal('nearveil-manifest'),
@@ -89,6 +129,7 @@ export const ManifestSchema = z
     record: RecordSchema,
     matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
     siteIds: z.array(z.string().min(1)),
+    partition: PartitionMatrixSchema.optional(),
   })
   .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
   .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to hold site index + 1' })
@@ -97,6 +138,16 @@ export const ManifestSchema = z
   })
   .refine((m) => m.matrix.columns === Math.ceil(regionCount(m.layout) / m.matrix.regionsPerColumn), {
     error: 'manifest: expected matrix.columns = ceil(regions / regionsPerColumn)',
+  })
+  .refine((m) => (m.layout.kind === 'veiled') === (m.partition !== undefined), {
+    error: 'manifest: expected a partition matrix exactly when the layout is veiled',
+  })
+  .refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.rows === m.partition.cellsPerColumn * m.layout.partitionBits, {
+    error: 'manifest: expected partition.rows = cellsPerColumn * partitionBits',
+  })
+  .refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.columns === Math.ceil(coarseCellCount(m.layout) / m.partition.cellsPerColumn), {
+    error: 'manifest: expected partition.columns = ceil(coarse cells / cellsPerColumn)',
   });
 
 export type Manifest = z.infer<typeof ManifestSchema>;
+

@@ -43,13 +43,13 @@ export function appRequest(t: TestTenant, method: string, path: string, body?: B
   return worker(`${BASE}${path}`, { method, headers, ...(body === undefined ? {} : { body }) });
 }
 
-/** Creates, uploads, builds and publishes a dataset from CSV text; returns the version number. */
-export async function publishDataset(t: TestTenant, slug: string, csv: string): Promise<number> {
+/** Creates, uploads, builds (with the layout asked for, else auto) and publishes a dataset from CSV text; returns the version number. */
+export async function publishDataset(t: TestTenant, slug: string, csv: string, layout?: string): Promise<number> {
   await adminRequest(t, 'POST', '/v1/admin/datasets', JSON.stringify({ slug }), 'application/json');
   const up = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions`, csv, 'text/csv');
   if (up.status !== 201) throw new Error(`upload failed: ${up.status} ${await up.text()}`);
   const { version } = (await up.json()) as { version: number };
-  const built = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/build`);
+  const built = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/build${layout ? `?layout=${layout}` : ''}`);
   if (built.status !== 200) throw new Error(`build failed: ${built.status} ${await built.text()}`);
   const pub = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/publish`);
   if (pub.status !== 200) throw new Error(`publish failed: ${pub.status} ${await pub.text()}`);

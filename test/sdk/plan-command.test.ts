@@ -24,16 +24,30 @@ describe('nearveil plan FILE', () => {
     const plan = JSON.parse(out) as {
       siteCount: number;
       matrix: { rows: number; columns: number; plan: { products: number; plainProducts: number } };
-      layoutsTried: Array<{ chosen: boolean; cost: { rows: number; columns: number; bytesUp: number; seconds: { total: number } } }>;
+      layoutsTried: Array<{ kind: string; chosen: boolean; eligible: boolean; cost: { rows: number; columns: number; bytesUp: number; seconds: { total: number } } }>;
     };
     expect(plan.siteCount).toBe(sites.length);
     const chosen = plan.layoutsTried.filter((g) => g.chosen);
     expect(chosen).toHaveLength(1);
-    // The chosen grid is the cheapest weighed, and its shape is the matrix built.
-    expect(chosen[0]!.cost.seconds.total).toBe(Math.min(...plan.layoutsTried.map((g) => g.cost.seconds.total)));
+    // The chosen layout is the cheapest of those auto may pick (grid and adaptive), and its shape is the matrix built.
+    const eligible = plan.layoutsTried.filter((g) => g.eligible);
+    expect(eligible.map((g) => g.kind).sort()).toContain('grid');
+    expect(eligible.some((g) => g.kind === 'veiled')).toBe(false);
+    expect(chosen[0]!.cost.seconds.total).toBe(Math.min(...eligible.map((g) => g.cost.seconds.total)));
     expect([chosen[0]!.cost.rows, chosen[0]!.cost.columns]).toEqual([plan.matrix.rows, plan.matrix.columns]);
     expect(chosen[0]!.cost.bytesUp).toBe(10 + 256 * (plan.matrix.columns + 1));
     expect(plan.matrix.plan.products).toBeLessThanOrEqual(plan.matrix.plan.plainProducts);
+  });
+
+  it('weighs the veiled layout beside grid and adaptive, and says what each discloses', async () => {
+    const { code, out } = await run(['plan', file, '--layout', 'veiled']);
+    expect(code).toBe(0);
+    expect(out).toMatch(/^Layout: veiled, lists <= \d+/m);
+    expect(out).toMatch(/^Partition matrix \(round 1\): \d+ x \d+ bits/m);
+    // Every kind appears in the table of layouts weighed, and in the disclosure list.
+    for (const label of [/^[ *-] grid \d+ x \d+/m, /^[ *-] adaptive, lists/m, /^\* veiled, lists/m]) expect(out).toMatch(label);
+    for (const flag of ['grid', 'adaptive', 'veiled']) expect(out).toMatch(new RegExp(`^  ${flag} +\\S`, 'm'));
+    expect(await run(['plan', file, '--layout', 'hexagons'])).toMatchObject({ code: 2, err: expect.stringMatching(/--layout: expected auto, grid, adaptive, veiled/) });
   });
 
   it('names a missing file and a malformed table', async () => {

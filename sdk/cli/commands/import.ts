@@ -5,10 +5,11 @@ import { CliError } from '../cli-error.ts';
 import { connectionOptions, parseCommand, requireString, resolveConnection } from '../options.ts';
 import { layoutOption } from './plan.ts';
 
-export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive] [--publish] [--json]
+export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive|veiled] [--publish] [--json]
   Uploads a site table (CSV with a header; columns id, lat, lon required, name optional, every
   other column a detail) as a new version of the dataset, builds its cell matrix and, with
   --publish, makes it the active version. The dataset is created if it does not exist.
+  --layout veiled publishes only a coarse grid (see \`nearveil plan\`); queries then take two rounds.
   --endpoint URL, --token TOKEN   override the dev credentials (TOKEN is the tenant admin token)`;
 
 export async function importCommand(args: string[], print: (line: string) => void): Promise<void> {

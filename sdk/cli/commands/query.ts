@@ -45,7 +45,8 @@ function textView(r: NearestResult): string {
     lines.push(`  ${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
   }
   lines.push(
-    `Cost: ${c.modulusBits}-bit key, matrix ${c.rows} x ${c.columns}, ${kib(c.bytesUp)} up, ${kib(c.bytesDown)} down, ` +
+    `Cost: ${c.modulusBits}-bit key, ${c.partition ? `two rounds (partition matrix ${c.partition.rows} x ${c.partition.columns}, then cell matrix` : 'matrix'} ` +
+      `${c.rows} x ${c.columns}${c.partition ? ')' : ''}, ${kib(c.bytesUp)} up, ${kib(c.bytesDown)} down, ` +
       `server ${c.serverMs === null ? 'n/a' : c.serverMs.toFixed(0) + ' ms'}, client ${c.clientMs.toFixed(0)} ms`,
     'Straight-line distance, not travel time. Data can be out of date. In an emergency call your local emergency number.',
   );
