@@ -11,7 +11,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   content_type: 'The Content-Type is not the one the route reads (415).',
   invalid_dataset: 'The dataset slug in the path is malformed (400).',
   invalid_version: 'The version in the path or query is not a whole number >= 1 (400).',
-  invalid_layout: 'The build layout is not auto, grid or adaptive (400).',
+  invalid_layout: 'The build layout is not one of auto, grid, adaptive, veiled (400).',
   invalid_month: 'The month is not YYYY-MM (400).',
   invalid_limit: 'The page size is not 1-500 (400).',
   invalid_before: 'The page cursor is not the `next` value of a previous page (400).',
@@ -57,5 +57,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   value_range: 'A query value is not in 1 <= value < modulus (400).',
   value_jacobi: 'A query value has Jacobi symbol other than +1 (400).',
   matrix_format: 'A stored matrix blob is malformed.',
+  invalid_matrix: 'The matrix asked for is not cells or partition (400).',
+  no_partition_matrix: "The version's layout has no partition matrix (400).",
   part_failed: 'A part of a split answer failed; send the query again (503).',
 };
