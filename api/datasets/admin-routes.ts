@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
+import { encodeAllRecords } from '../../core/details/record-codec.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { recordAudit } from '../audit/record-audit.ts';
@@ -56,6 +57,8 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
     const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    // Records over the details size limit are refused now, naming their rows, not at build time.
+    encodeAllRecords(table);
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);

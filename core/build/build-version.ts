@@ -5,11 +5,12 @@ import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
-import type { PlanRecord } from '../geo/manifest.ts';
+import { choosePlan } from '../pir/answer-plan.ts';
+import { buildDetails } from '../details/build-details.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
+import { planRecord } from './plan-record.ts';
 import { fillPartitionMatrix } from './fill-partition-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
@@ -17,6 +18,8 @@ export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
+  /** The sealed file and details matrix, when the build was given a details secret. */
+  details?: { sealedFile: Uint8Array<ArrayBuffer>; matrix: BitMatrix; matrixBlob: Uint8Array<ArrayBuffer> };
   /** Veiled layouts only: the partition matrix (first private round) and its stored form. */
   partition?: { matrix: BitMatrix; blob: Uint8Array<ArrayBuffer> };
   stats: { regions: number; maxList: number; meanList: number; buildMs: number };
@@ -45,12 +48,15 @@ const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
  * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
  * Deterministic: the same table and meta give the same blob, hash and manifest; only
  * stats.buildMs varies. Site index = position in `table.sites`.
+ * With `detailsSecret` (32 bytes from a CSPRNG, kept server-side only) it also seals every
+ * record and lays out the details matrix (core/details); without it, the version has no
+ * private details (manifest.details absent). Throws InputError `record_too_large` naming rows.
  * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
  * ManifestSchema before it is returned.
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; detailsSecret?: Uint8Array },
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -61,6 +67,8 @@ export async function buildVersion(
   if (!Number.isSafeInteger(meta.version) || meta.version < 1) {
     throw new RangeError(`buildVersion: expected version >= 1, got ${meta.version}`);
   }
+  // Details first: a record over the size limit fails the build before the costly geometry.
+  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(table, meta.detailsSecret);
   const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
   const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
@@ -104,6 +112,26 @@ export async function buildVersion(
       plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
+    ...(details
+      ? {
+          details: {
+            columns: details.columns,
+            recordBytes: details.recordBytes,
+            sealedRecordBytes: details.sealedRecordBytes,
+            sealedHash: details.sealedHash,
+            sealedBytes: details.sealedFile.length,
+            keyBits: 128 as const,
+            keysPerColumn: details.keysPerColumn,
+            matrix: {
+              contentHash: details.matrixHash,
+              rows: details.matrix.rows,
+              columns: details.matrix.columns,
+              ones: countOnes(details.matrix),
+              plan: planRecord(details.plan),
+            },
+          },
+        }
+      : {}),
     ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
@@ -111,6 +139,7 @@ export async function buildVersion(
     manifest,
     matrix,
     matrixBlob,
+    ...(details ? { details: { sealedFile: details.sealedFile, matrix: details.matrix, matrixBlob: details.matrixBlob } } : {}),
     ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
@@ -135,16 +164,4 @@ function popcount(x: number): number {
   let count = 0;
   for (let v = x >>> 0; v !== 0; v &= v - 1) count++;
   return count;
-}
-
-const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
-
-/** The manifest's account of the answer plan: the choice, its products, and all plans weighed. */
-function planRecord(choice: ReturnType<typeof choosePlan>): PlanRecord {
-  const plainProducts = choice.weighed[0]!.products;
-  const weighed = choice.weighed.map((w) => ({ plan: planName(w.plan), products: w.products }));
-  const p = choice.plan;
-  if (p.kind === 'blocked') return { kind: 'blocked', blockColumns: p.blockColumns, products: choice.products, plainProducts, weighed };
-  if (p.kind === 'mined') return { kind: 'mined', rules: p.mined.rules.length, products: choice.products, plainProducts, weighed };
-  return { kind: 'plain', products: choice.products, plainProducts, weighed };
 }

@@ -15,6 +15,8 @@ export interface Site {
 export interface SiteTable {
   sites: Site[];
   detailColumns: string[];
+  /** The spreadsheet row of each site (header = row 1), when the table was read from a file: errors name it. */
+  rows?: number[];
 }
 
 /** Largest table a build accepts; larger ones get `site_table_too_large` (HTTP 413). */
@@ -124,6 +126,7 @@ export function parseSiteTable(csv: string): SiteTable {
   const detailColumns = detailAt.map((i) => header[i]!);
   const firstRowOfId = new Map<string, number>();
   const sites: Site[] = [];
+  const rows: number[] = [];
   for (let r = 1; r < records.length; r++) {
     const row = r + 1;
     const cells = records[r]!;
@@ -154,7 +157,8 @@ export function parseSiteTable(csv: string): SiteTable {
     // fromEntries defines own properties, so a column named "__proto__" stays a plain detail.
     const details: Record<string, string> = Object.fromEntries(detailAt.map((i, k) => [detailColumns[k]!, cells[i]!]));
     sites.push({ id, name: nameText === '' ? null : nameText, lat, lon, details });
+    rows.push(row);
   }
   if (issues.length > 0) fail(issues);
-  return { sites, detailColumns };
+  return { sites, detailColumns, rows };
 }
