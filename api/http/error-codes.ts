@@ -59,5 +59,9 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   matrix_format: 'A stored matrix blob is malformed.',
   invalid_matrix: 'The matrix asked for is not cells or partition (400).',
   no_partition_matrix: "The version's layout has no partition matrix (400).",
+  details_unavailable: 'The version has no sealed site details (404).',
+  record_too_large: 'A site record with its details is longer than a sealed record holds (413).',
+  record_refused: 'A sealed site record does not open with its key (400).',
+  sealed_format: 'The sealed records file is malformed (400).',
   part_failed: 'A part of a split answer failed; send the query again (503).',
 };
