@@ -4,6 +4,7 @@ import { z } from 'zod';
 import { encodeAllRecords } from '../../core/details/record-codec.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
+import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { datasets, versions } from '../db/schema.ts';
@@ -18,7 +19,7 @@ import { runBuild, sha256Hex } from './run-build.ts';
 /** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
 export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
 
-const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+export const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
 
 /** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
 const editor = requireRole('tenant_editor');
@@ -35,6 +36,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       .onConflictDoNothing()
       .returning();
     if (inserted.length === 0) throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    await recordAudit(c, { action: 'dataset.create', target: `dataset ${body.slug}`, detail: { name: inserted[0]!.name } });
     return c.json(datasetView(inserted[0]!), 201);
   })
   .get('/datasets', async (c) => {
@@ -60,6 +62,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
+    await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: table.sites.length, bytes: bytes.length, tableKey } });
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
   .post('/datasets/:dataset/versions/:version/build', async (c) => {
@@ -70,7 +73,17 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (!isLayoutChoice(layout)) {
       throw new ApiError(400, 'invalid_layout', `layout: expected ${LAYOUT_CHOICES.join(', ')}, got "${layout}"`, 'layout');
     }
-    const manifest = await runBuild(c.env, db, dataset, version, layout);
+    const target = `dataset ${dataset.slug} v${version.number}`;
+    let manifest: Awaited<ReturnType<typeof runBuild>>;
+    try {
+      manifest = await runBuild(c.env, db, dataset, version, layout);
+    } catch (err) {
+      if (!(err instanceof ApiError && err.code === 'version_state')) {
+        await recordAudit(c, { action: 'version.build_failed', target, detail: { layout, reason: err instanceof Error ? err.message.slice(0, 300) : 'unknown' } });
+      }
+      throw err;
+    }
+    await recordAudit(c, { action: 'version.build', target, detail: { layout: manifest.layout.kind, rows: manifest.matrix.rows, columns: manifest.matrix.columns } });
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, matrix: manifest.matrix });
   })
   .post('/datasets/:dataset/versions/:version/publish', requireRole('tenant_admin'), async (c) => {
@@ -90,6 +103,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
         .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number))),
       db.update(datasets).set({ activeVersion: version.number }).where(eq(datasets.id, dataset.id)),
     ]);
+    await recordAudit(c, { action: 'version.publish', target: `dataset ${dataset.slug} v${version.number}`, detail: { previousVersion: dataset.activeVersion } });
     return c.json({ dataset: dataset.slug, activeVersion: version.number, previousVersion: dataset.activeVersion });
   });
 
