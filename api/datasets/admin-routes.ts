@@ -2,8 +2,10 @@ import { and, eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { MAX_K } from '../../core/geo/manifest.ts';
+import { encodeAllRecords } from '../../core/details/record-codec.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
+import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { datasets, versions } from '../db/schema.ts';
@@ -18,7 +20,7 @@ import { runBuild, sha256Hex } from './run-build.ts';
 /** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
 export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
 
-const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+export const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
 
 /** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
 const editor = requireRole('tenant_editor');
@@ -35,6 +37,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       .onConflictDoNothing()
       .returning();
     if (inserted.length === 0) throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    await recordAudit(c, { action: 'dataset.create', target: `dataset ${body.slug}`, detail: { name: inserted[0]!.name } });
     return c.json(datasetView(inserted[0]!), 201);
   })
   .get('/datasets', async (c) => {
@@ -55,9 +58,12 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
     const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    // Records over the details size limit are refused now, naming their rows, not at build time.
+    encodeAllRecords(table);
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
+    await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: table.sites.length, bytes: bytes.length, tableKey } });
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
   .post('/datasets/:dataset/versions/:version/build', async (c) => {
@@ -70,7 +76,17 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const maxK = buildMaxK(c.req.query('maxK'));
     if (layout === 'veiled' && maxK > 1) throw new ApiError(400, 'invalid_max_k', `maxK: the veiled layout serves the nearest site only (maxK 1), got ${maxK}`, 'maxK');
-    const manifest = await runBuild(c.env, db, dataset, version, layout, maxK);
+    const target = `dataset ${dataset.slug} v${version.number}`;
+    let manifest: Awaited<ReturnType<typeof runBuild>>;
+    try {
+      manifest = await runBuild(c.env, db, dataset, version, layout, maxK);
+    } catch (err) {
+      if (!(err instanceof ApiError && err.code === 'version_state')) {
+        await recordAudit(c, { action: 'version.build_failed', target, detail: { layout, maxK, reason: err instanceof Error ? err.message.slice(0, 300) : 'unknown' } });
+      }
+      throw err;
+    }
+    await recordAudit(c, { action: 'version.build', target, detail: { layout: manifest.layout.kind, maxK: manifest.maxK, rows: manifest.matrix.rows, columns: manifest.matrix.columns } });
     return c.json({ ...versionView(await findVersion(db, dataset, version.number)), layout: manifest.layout.kind, maxK: manifest.maxK, matrix: manifest.matrix });
   })
   .post('/datasets/:dataset/versions/:version/publish', requireRole('tenant_admin'), async (c) => {
@@ -90,6 +106,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
         .where(and(eq(versions.datasetId, dataset.id), eq(versions.number, version.number))),
       db.update(datasets).set({ activeVersion: version.number }).where(eq(datasets.id, dataset.id)),
     ]);
+    await recordAudit(c, { action: 'version.publish', target: `dataset ${dataset.slug} v${version.number}`, detail: { previousVersion: dataset.activeVersion } });
     return c.json({ dataset: dataset.slug, activeVersion: version.number, previousVersion: dataset.activeVersion });
   });
 

@@ -7,11 +7,13 @@ import type { Database } from '../db/client.ts';
 import type { Env } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
+import { versionDetailsSecret } from './details-secret.ts';
 import { moveVersionState, type DatasetRow, type VersionRow } from './repository.ts';
 
 /**
- * Turns a draft version into a stored cell matrix and manifest. Blobs are written first
- * (matrices content-addressed, then the manifest); only then does the row say "ready". A failure
+ * Turns a draft version into a stored cell matrix, details matrix, sealed file and manifest.
+ * Blobs are written first (content-addressed, then the manifest); only then does the row say
+ * "ready". A failure
  * marks the version "failed" with its reason and never touches the active version.
  */
 export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice = 'auto', maxK = 1): Promise<Manifest> {
@@ -21,10 +23,16 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   try {
     const csv = await getBlobText(env, version.tableKey);
     if (csv === null) throw new Error(`site table blob ${version.tableKey} is missing`);
-    const built = await buildVersion(parseSiteTable(csv), { dataset: dataset.slug, version: version.number, layout, maxK });
+    const detailsSecret = await versionDetailsSecret(db, version);
+    const built = await buildVersion(parseSiteTable(csv), { dataset: dataset.slug, version: version.number, layout, maxK, detailsSecret });
     const matrixKey = blobKeys.matrix(built.manifest.contentHash);
     const manifestKey = blobKeys.manifest(dataset.id, version.number);
     await putBlob(env, matrixKey, built.matrixBlob);
+    const details = built.manifest.details;
+    if (built.details && details) {
+      await putBlob(env, blobKeys.matrix(details.matrix.contentHash), built.details.matrixBlob);
+      await putBlob(env, blobKeys.sealed(details.sealedHash), built.details.sealedFile);
+    }
     // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
     if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
     await putBlob(env, manifestKey, JSON.stringify(built.manifest));

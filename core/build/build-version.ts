@@ -5,11 +5,14 @@ import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
-import type { PlanRecord } from '../geo/manifest.ts';
+import { InputError } from '../errors/input-error.ts';
+import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
+import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
+import { buildDetails } from '../details/build-details.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
+import { planRecord } from './plan-record.ts';
 import { fillPartitionMatrix } from './fill-partition-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
@@ -17,6 +20,8 @@ export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
+  /** The sealed file and details matrix, when the build was given a details secret. */
+  details?: { sealedFile: Uint8Array<ArrayBuffer>; matrix: BitMatrix; matrixBlob: Uint8Array<ArrayBuffer> };
   /** Veiled layouts only: the partition matrix (first private round) and its stored form. */
   partition?: { matrix: BitMatrix; blob: Uint8Array<ArrayBuffer> };
   /** `listLengths[n]`: regions whose candidate list holds n sites (before padding). */
@@ -66,12 +71,15 @@ export interface BuildOptions {
  * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
  * Deterministic: the same table and meta give the same blob, hash and manifest; only
  * stats.buildMs varies. Site index = position in `table.sites`.
+ * With `detailsSecret` (32 bytes from a CSPRNG, kept server-side only) it also seals every
+ * record and lays out the details matrix (core/details); without it, the version has no
+ * private details (manifest.details absent). Throws InputError `record_too_large` naming rows.
  * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
  * ManifestSchema before it is returned.
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; maxK?: number },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; maxK?: number; detailsSecret?: Uint8Array; memoryBudgetBytes?: number },
   options: BuildOptions = {},
 ): Promise<BuildResult> {
   const started = performance.now();
@@ -91,6 +99,8 @@ export async function buildVersion(
     return options.onProgress?.({ stage, percent });
   };
   await report('regions', 0);
+  // Details first: a record over the size limit fails the build before the costly geometry.
+  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(table, meta.detailsSecret);
   const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
   const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
@@ -98,17 +108,19 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
+  const { chosen, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
     weighAll: meta.weighAll === true,
     k: maxK,
     onProgress: (share) => void report('regions', 80 * share),
   });
+  const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
+  const choice = layoutWithinMemory(chosen, tried, meta.layout ?? 'auto', budget);
   await report('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
   await report('plan', 85);
-  const planned = choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS });
+  const planned = planWithinMemory(choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS }), matrix.rows, matrix.columns, budget);
   const partition = choice.partition && choice.layout.kind === 'veiled' ? fillPartitionMatrix(choice.partition.records, choice.layout, choice.partition.packing) : undefined;
   const partitionBlob = partition ? encodeMatrixBlob(partition) : undefined;
   let partitionRecord: PartitionMatrix | undefined;
@@ -118,7 +130,7 @@ export async function buildVersion(
       columns: partition.columns,
       cellsPerColumn: choice.partition!.packing.regionsPerColumn,
       ones: countOnes(partition),
-      plan: planRecord(choosePlan(partition)),
+      plan: planRecord(planWithinMemory(choosePlan(partition), partition.rows, partition.columns, budget)),
       contentHash: await sha256Hex(partitionBlob),
     };
   }
@@ -142,6 +154,26 @@ export async function buildVersion(
       plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
+    ...(details
+      ? {
+          details: {
+            columns: details.columns,
+            recordBytes: details.recordBytes,
+            sealedRecordBytes: details.sealedRecordBytes,
+            sealedHash: details.sealedHash,
+            sealedBytes: details.sealedFile.length,
+            keyBits: 128 as const,
+            keysPerColumn: details.keysPerColumn,
+            matrix: {
+              contentHash: details.matrixHash,
+              rows: details.matrix.rows,
+              columns: details.matrix.columns,
+              ones: countOnes(details.matrix),
+              plan: planRecord(details.plan),
+            },
+          },
+        }
+      : {}),
     ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
@@ -150,6 +182,7 @@ export async function buildVersion(
     manifest,
     matrix,
     matrixBlob,
+    ...(details ? { details: { sealedFile: details.sealedFile, matrix: details.matrix, matrixBlob: details.matrixBlob } } : {}),
     ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
@@ -178,20 +211,47 @@ function lengthCounts(lists: readonly Int32Array[]): number[] {
   return Array.from(counts, (c) => c ?? 0);
 }
 
+/** Memory is checked at the largest modulus a client may use: its slots are the widest. */
+const MEMORY_CHECK_BITS = Math.max(...MODULUS_BITS);
+const MiB = (bytes: number) => (bytes / 2 ** 20).toFixed(0);
+
+/**
+ * The chosen layout if a Worker can answer from its matrix; under 'auto' the cheapest layout
+ * that fits otherwise. A layout asked for by name that does not fit is refused (InputError).
+ * The least memory any plan needs is the blocked plan with two-column tables.
+ */
+type BuiltCandidate = LayoutCandidate & { lists: Int32Array[] };
+
+function layoutWithinMemory(chosen: BuiltCandidate, tried: LayoutCandidate[], asked: LayoutChoice, budget: number): BuiltCandidate {
+  const least = (c: LayoutCandidate) => answerMemory(c.packing.rows, c.packing.columns, { kind: 'blocked', blockColumns: 2 }, MEMORY_CHECK_BITS).peakBytes;
+  if (least(chosen) <= budget) return chosen;
+  // Only layouts whose lists were built (a bounded grid already lost on cost) can stand in.
+  const fitting = tried.filter((c): c is BuiltCandidate => c.lists !== null && least(c) <= budget);
+  if (asked === 'auto' && fitting.length > 0) return fitting.reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
+  throw new InputError(
+    'matrix_too_large',
+    'layout',
+    `layout ${chosen.label} needs a ${chosen.packing.rows} x ${chosen.packing.columns} matrix: answering from it takes ${MiB(least(chosen))} MiB, ` +
+      `more than the ${MiB(budget)} MiB a Worker may use for one answer` + (asked === 'auto' ? '' : '; try the adaptive layout'),
+    { status: 422 },
+  );
+}
+
+function planShape(p: AnswerPlan): PlanShape {
+  return p.kind === 'mined' ? { kind: 'mined', rules: p.mined.rules.length } : p;
+}
+
+/** The plan with the fewest products among those whose working memory fits the budget. */
+function planWithinMemory(choice: PlanChoice, rows: number, columns: number, budget: number): PlanChoice {
+  const fits = (p: AnswerPlan) => answerMemory(rows, columns, planShape(p), MEMORY_CHECK_BITS).peakBytes <= budget;
+  if (fits(choice.plan)) return choice;
+  const best = choice.weighed.filter((w) => fits(w.plan)).reduce<(typeof choice.weighed)[number] | null>((a, w) => (a === null || w.products < a.products ? w : a), null);
+  if (best === null) throw new InputError('matrix_too_large', 'layout', `no answer plan fits ${MiB(budget)} MiB on a ${rows} x ${columns} matrix`, { status: 422 });
+  return { plan: best.plan, products: best.products, weighed: choice.weighed };
+}
+
 function popcount(x: number): number {
   let count = 0;
   for (let v = x >>> 0; v !== 0; v &= v - 1) count++;
   return count;
-}
-
-const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
-
-/** The manifest's account of the answer plan: the choice, its products, and all plans weighed. */
-function planRecord(choice: ReturnType<typeof choosePlan>): PlanRecord {
-  const plainProducts = choice.weighed[0]!.products;
-  const weighed = choice.weighed.map((w) => ({ plan: planName(w.plan), products: w.products }));
-  const p = choice.plan;
-  if (p.kind === 'blocked') return { kind: 'blocked', blockColumns: p.blockColumns, products: choice.products, plainProducts, weighed };
-  if (p.kind === 'mined') return { kind: 'mined', rules: p.mined.rules.length, products: choice.products, plainProducts, weighed };
-  return { kind: 'plain', products: choice.products, plainProducts, weighed };
 }

@@ -22,7 +22,7 @@ export interface KdLayout {
   readonly nodes: Array<[0 | 1, number] | null>;
 }
 
-interface Box {
+export interface Box {
   latMin: number;
   latMax: number;
   /** Longitude offsets east of lonStart, 0 <= offMin < offMax <= 360. */
@@ -185,7 +185,7 @@ function splitValue(inside: Int32Array, coord: Float64Array, lo: number, hi: num
  * two parallels (none at a pole, where a parallel is a point already on the meridians).
  * Longitudes are absolute (lonStart + offset, possibly above 180: trigonometry does not mind).
  */
-function boxBoundary(box: Box, lonStart: number): Segment[] {
+export function boxBoundary(box: Box, lonStart: number): Segment[] {
   const west = lonStart + box.offMin;
   const east = lonStart + box.offMax;
   const segs: Segment[] = [{ meridian: true, fixed: west, from: box.latMin, to: box.latMax }];
