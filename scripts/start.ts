@@ -3,7 +3,8 @@
  * disk), listening on 127.0.0.1 only. The first start creates the demo tenant, an admin token,
  * an API key, the operator and the demo tenant's admin and editor users (random passwords) and
  * the invented Harrow Vale dataset, and writes the credentials to .nearveil/.
- * Environment: PORT (default 8787), NEARVEIL_STATE (default .wrangler/state), NEARVEIL_HOME.
+ * Environment: PORT (default 8787), NEARVEIL_STATE (default .wrangler/state), NEARVEIL_HOME,
+ * NEARVEIL_INSPECTOR_PORT (wrangler's debugger port; default 9229).
  */
 import { join, resolve } from 'node:path';
 import { connectAdmin } from '../sdk/admin.ts';
@@ -69,7 +70,9 @@ async function start(): Promise<void> {
 
   // The Worker's binding to itself is found through wrangler's dev registry. A registry of this
   // state folder's own keeps other local runs of a Worker named "nearveil" from reloading this one.
-  const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false'], {
+  // Tests that start servers side by side give each its own debugger port (wrangler's default is 9229).
+  const inspector = process.env.NEARVEIL_INSPECTOR_PORT ? ['--inspector-port', process.env.NEARVEIL_INSPECTOR_PORT] : [];
+  const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false', ...inspector], {
     WRANGLER_REGISTRY_PATH: join(persistTo, 'dev-registry'),
   });
   devProcess = dev;

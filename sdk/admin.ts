@@ -98,10 +98,12 @@ export function connectAdmin(options: AdminOptions) {
     },
     /**
      * Queues a build and waits until the version is ready (throws `build_failed` if it failed).
-     * layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto' the cheaper.
+     * layout: 'grid' discloses only a box around the sites; 'adaptive' where they are dense; 'auto'
+     * the cheaper of those; 'veiled' only a coarse grid, at the price of a second private round.
+     * maxK: build for the k nearest, 1 to 8 (lists grow with it).
      */
-    async build(dataset: string, version: number, layout: LayoutChoice = 'auto', wait: BuildWaitOptions = {}): Promise<VersionInfo & { matrix: NonNullable<VersionInfo['matrix']> }> {
-      await json<VersionInfo>('POST', `${versionPath(dataset, version)}/build?layout=${layout}`);
+    async build(dataset: string, version: number, layout: LayoutChoice = 'auto', maxK = 1, wait: BuildWaitOptions = {}): Promise<VersionInfo & { matrix: NonNullable<VersionInfo['matrix']> }> {
+      await json<VersionInfo>('POST', `${versionPath(dataset, version)}/build?layout=${layout}&maxK=${maxK}`);
       const until = Date.now() + (wait.timeoutMs ?? 15 * 60_000);
       for (;;) {
         await new Promise((r) => setTimeout(r, wait.pollMs ?? 500));

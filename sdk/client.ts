@@ -1,11 +1,13 @@
 import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
 import { locateRegion } from '../core/geo/locate.ts';
-import { ManifestSchema, type Manifest } from '../core/geo/manifest.ts';
+import { ManifestSchema, MAX_K, type Manifest } from '../core/geo/manifest.ts';
 import { decodeRows } from '../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
 import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import type { SiteRecord } from '../core/details/record-codec.ts';
+import { fetchRecords, memorySealedCache, type DetailsCost, type SealedFileCache } from './details-round.ts';
 import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
 import { fetchCellRecord, type PartitionRoundCost } from './partition-round.ts';
 
@@ -18,6 +20,15 @@ export interface ConnectOptions {
   /** A key pair kept from an earlier session; otherwise one is generated on first use. */
   keyPair?: PirKeyPair;
   fetch?: FetchLike;
+  /** Where sealed files are kept between calls (default: in memory, the last two versions). */
+  sealedCache?: SealedFileCache;
+}
+
+export interface NearestOptions {
+  /** How many sites, nearest first (default 1); at most the dataset's maxK (see its manifest). */
+  k?: number;
+  /** Also fetch the sites' full records in a second private round (core/details/DETAILS.md). */
+  details?: boolean;
 }
 
 export interface NearestSite {
@@ -27,6 +38,8 @@ export interface NearestSite {
   lat: number;
   lon: number;
   distanceMeters: number;
+  /** The site's full record (every column of its row), with `details: true` only. */
+  record?: SiteRecord;
 }
 
 export interface QueryCost {
@@ -50,11 +63,11 @@ export interface NearestResult {
   dataset: string;
   version: number;
   results: NearestSite[];
-  cost: QueryCost;
+  cost: QueryCost & { details?: DetailsCost };
 }
 
 export interface NearveilClient {
-  nearest(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult>;
+  nearest(dataset: string, point: { lat: number; lon: number }, options?: NearestOptions): Promise<NearestResult>;
   manifest(dataset: string): Promise<Manifest>;
   keyPair(): Promise<PirKeyPair>;
 }
@@ -68,14 +81,18 @@ export function connect(options: ConnectOptions): NearveilClient {
   const modulusBits = options.keyPair?.modulusBits ?? options.modulusBits ?? DEFAULT_MODULUS_BITS;
   let keys: Promise<PirKeyPair> | undefined = options.keyPair ? Promise.resolve(options.keyPair) : undefined;
   const keyPair = () => (keys ??= generateKeyPair({ modulusBits }));
+  const sealedCache = options.sealedCache ?? memorySealedCache();
 
   async function manifest(dataset: string): Promise<Manifest> {
     const response = await send(http, 'GET', `v1/datasets/${encodeURIComponent(dataset)}/manifest`);
     return ManifestSchema.parse(await response.json());
   }
 
-  async function nearestOnce(dataset: string, point: { lat: number; lon: number }): Promise<NearestResult> {
+  async function nearestOnce(dataset: string, point: { lat: number; lon: number }, k: number, wanted: NearestOptions): Promise<NearestResult> {
     const m = await manifest(dataset);
+    if (k > m.maxK) {
+      throw new NearveilError(0, 'k_too_large', `dataset "${dataset}" version ${m.version} is built for up to ${m.maxK} nearest, not ${k} (rebuild with a larger maxK)`);
+    }
     if (!(m.modulusBits as readonly number[]).includes(modulusBits)) {
       throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
     }
@@ -95,14 +112,22 @@ export function connect(options: ConnectOptions): NearveilClient {
       throw new NearveilError(0, 'answer_shape', `answer has ${rows.length} rows, manifest says ${m.matrix.rows}`);
     }
     const bits = decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount);
-    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, 1);
+    // Exact: the region's list holds every site among the maxK nearest of any of its points.
+    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, k);
     const clientMs = t1 - t0 + (performance.now() - t2) + (first?.cost.clientMs ?? 0);
     const serverMs = serverTimingMs(response);
     const firstServerMs = first ? first.cost.serverMs : 0;
+    const results: NearestSite[] = found.map((c) => ({ index: c.index, id: m.siteIds[c.index] ?? String(c.index), name: null, lat: c.lat, lon: c.lon, distanceMeters: c.distanceMeters }));
+    // The second round asks with the same key pair, one details query per result.
+    const details = wanted.details ? await fetchRecords(http, m, key, results.map((r) => r.index), sealedCache) : undefined;
+    details?.records.forEach((record, i) => {
+      results[i]!.record = record;
+      results[i]!.name = record.name;
+    });
     return {
       dataset,
       version: m.version,
-      results: found.map((c) => ({ index: c.index, id: m.siteIds[c.index] ?? String(c.index), name: null, lat: c.lat, lon: c.lon, distanceMeters: c.distanceMeters })),
+      results,
       cost: {
         modulusBits,
         rows: m.matrix.rows,
@@ -112,6 +137,7 @@ export function connect(options: ConnectOptions): NearveilClient {
         bytesDown: answerBytes.length + (first?.cost.bytesDown ?? 0),
         serverMs: serverMs === null || firstServerMs === null ? null : serverMs + firstServerMs,
         clientMs,
+        ...(details ? { details: details.cost } : {}),
         ...(first ? { partition: first.cost } : {}),
       },
     };
@@ -120,12 +146,14 @@ export function connect(options: ConnectOptions): NearveilClient {
   return {
     manifest,
     keyPair,
-    async nearest(dataset, point) {
+    async nearest(dataset, point, wanted = {}) {
+      const k = wanted.k ?? 1;
+      if (!Number.isSafeInteger(k) || k < 1 || k > MAX_K) throw new RangeError(`nearest: expected k in 1..${MAX_K}, got ${wanted.k}`);
       try {
-        return await nearestOnce(dataset, point);
+        return await nearestOnce(dataset, point, k, wanted);
       } catch (err) {
         // A version published between our manifest read and our query: read again, once.
-        if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point);
+        if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point, k, wanted);
         throw err;
       }
     },

@@ -9,10 +9,11 @@ import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, SlugSchema } from '../http/params.ts';
 import { utcMonth } from '../metering/calendar.ts';
 import { parseKeyScope } from './key-scope.ts';
+import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from './principal.ts';
 import { hashSecret, newSecret } from './secrets.ts';
 
-const CreateKeyBody = z
+export const CreateKeyBody = z
   .object({
     label: z.string().trim().min(1).max(100),
     /** Dataset slugs the key may read; absent means every dataset of the tenant, now and later. */
@@ -72,6 +73,7 @@ export const keyRoutes = new Hono<AppBindings>()
         monthlyQuota: body.monthlyQuota ?? null,
       })
       .returning();
+    await recordAudit(c, { action: 'key.create', target: `key ${row!.id}`, detail: { label: row!.label, datasets: scope, monthlyQuota: row!.monthlyQuota } });
     return c.json({ ...keyView(row!, 0), secret, note: 'the secret is shown once; store it now' }, 201);
   })
   .get('/keys', async (c) => {
@@ -92,5 +94,6 @@ export const keyRoutes = new Hono<AppBindings>()
     await db.update(credentials).set({ revokedAt: new Date().toISOString() }).where(and(mine, isNull(credentials.revokedAt)));
     const [row] = await db.select({ id: credentials.id, revokedAt: credentials.revokedAt }).from(credentials).where(mine);
     if (!row) throw new ApiError(404, 'key_unknown', `API key ${id} does not exist for this tenant`, 'id');
+    await recordAudit(c, { action: 'key.revoke', target: `key ${id}` });
     return c.json(row);
   });

@@ -48,7 +48,7 @@ async function buildOnce(env: Env, db: Database, job: BuildMessage, attempt: num
   }
   await db.update(versions).set({ buildAttempts: attempt }).where(where);
   try {
-    await runBuild(env, db, row.dataset, row.version, job.layout, hooks);
+    await runBuild(env, db, row.dataset, row.version, job.layout, job.maxK, hooks);
     return 'done';
   } catch (err) {
     const reason = (err instanceof Error ? err.message : String(err)).slice(0, 500);

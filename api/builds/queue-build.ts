@@ -14,9 +14,9 @@ const BUILDABLE = ['draft', 'failed', 'retired'] as const;
  * Marks the version "building" (stage "queued") and puts a build message on the queue. If the
  * queue refuses the message the version is marked failed with the reason, never left hanging.
  */
-export async function queueBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice): Promise<void> {
+export async function queueBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice, maxK = 1): Promise<void> {
   await markQueued(db, dataset, version, layout);
-  const message: BuildMessage = { datasetId: dataset.id, version: version.number, layout };
+  const message: BuildMessage = { datasetId: dataset.id, version: version.number, layout, maxK };
   try {
     await env.BUILDS.send(message);
   } catch (err) {

@@ -6,6 +6,7 @@ import type { Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
 import type { Env } from '../env.ts';
 import type { DatasetRow, VersionRow } from '../datasets/repository.ts';
+import { versionDetailsSecret } from '../datasets/details-secret.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
 import { writeProgress, type BuildStage } from './progress.ts';
 
@@ -30,7 +31,7 @@ export interface BuildSummary {
  * the row say "ready". Throws on any failure and leaves the row to the caller (retry or fail);
  * nothing here touches another version or the dataset's active pointer.
  */
-export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice, hooks: BuildHooks = {}): Promise<BuildSummary> {
+export async function runBuild(env: Env, db: Database, dataset: DatasetRow, version: VersionRow, layout: LayoutChoice, maxK: number, hooks: BuildHooks = {}): Promise<BuildSummary> {
   const stage = async (name: BuildStage) => {
     await writeProgress(db, dataset.id, version.number, name);
     await hooks.onStage?.(name);
@@ -40,10 +41,16 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   if (csv === null) throw new Error(`site table blob ${version.tableKey} is missing`);
   const table = parseSiteTable(csv);
   await stage('building');
-  const built = await buildVersion(table, { dataset: dataset.slug, version: version.number, layout });
+  const detailsSecret = await versionDetailsSecret(db, version);
+  const built = await buildVersion(table, { dataset: dataset.slug, version: version.number, layout, maxK, detailsSecret });
   await stage('writing-matrix');
   const matrixKey = blobKeys.matrix(built.manifest.contentHash);
   await putBlob(env, matrixKey, built.matrixBlob);
+  const details = built.manifest.details;
+  if (built.details && details) {
+    await putBlob(env, blobKeys.matrix(details.matrix.contentHash), built.details.matrixBlob);
+    await putBlob(env, blobKeys.sealed(details.sealedHash), built.details.sealedFile);
+  }
   // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
   if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
   await stage('writing-manifest');

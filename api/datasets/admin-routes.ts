@@ -1,8 +1,11 @@
 import { eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
+import { MAX_K } from '../../core/geo/manifest.ts';
+import { encodeAllRecords } from '../../core/details/record-codec.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
+import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { datasets } from '../db/schema.ts';
@@ -20,7 +23,7 @@ import { sweepVersions } from './retire-versions.ts';
 /** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
 export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
 
-const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+export const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
 
 /** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
 const editor = requireRole('tenant_editor');
@@ -37,6 +40,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       .onConflictDoNothing()
       .returning();
     if (inserted.length === 0) throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    await recordAudit(c, { action: 'dataset.create', target: `dataset ${body.slug}`, detail: { name: inserted[0]!.name } });
     return c.json(datasetView(inserted[0]!), 201);
   })
   .get('/datasets', async (c) => {
@@ -57,9 +61,12 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
     const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    // Records over the details size limit are refused now, naming their rows, not at build time.
+    encodeAllRecords(table);
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
+    await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: table.sites.length, bytes: bytes.length, tableKey } });
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
   .get('/datasets/:dataset/versions/:version', async (c) => {
@@ -75,7 +82,10 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (!isLayoutChoice(layout)) {
       throw new ApiError(400, 'invalid_layout', `layout: expected ${LAYOUT_CHOICES.join(', ')}, got "${layout}"`, 'layout');
     }
-    await queueBuild(c.env, db, dataset, version, layout);
+    const maxK = buildMaxK(c.req.query('maxK'));
+    if (layout === 'veiled' && maxK > 1) throw new ApiError(400, 'invalid_max_k', `maxK: the veiled layout serves the nearest site only (maxK 1), got ${maxK}`, 'maxK');
+    await queueBuild(c.env, db, dataset, version, layout, maxK);
+    await recordAudit(c, { action: 'version.build', target: `dataset ${dataset.slug} v${version.number}`, detail: { layout, maxK, queued: true } });
     return c.json(versionView(await findVersion(db, dataset, version.number)), 202);
   })
   .post('/datasets/:dataset/versions/:version/publish', requireRole('tenant_admin'), async (c) => {
@@ -83,6 +93,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
     const switched = await activateVersion(c.env, db, dataset, version);
+    await recordAudit(c, { action: 'version.publish', target: `dataset ${dataset.slug} v${version.number}`, detail: { previousVersion: dataset.activeVersion } });
     c.executionCtx.waitUntil(sweepQuietly(c.env));
     return c.json({ dataset: dataset.slug, ...switched, graceSeconds: graceSeconds(c.env) });
   })
@@ -94,6 +105,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const target = body.toVersion === undefined ? rollbackTarget(dataset, await listVersions(db, dataset.id)) : await findVersion(db, dataset, body.toVersion);
     if (target.number === dataset.activeVersion) throw new ApiError(409, 'version_active', `version ${target.number} is already active`, 'toVersion');
     const switched = await activateVersion(c.env, db, dataset, target);
+    await recordAudit(c, { action: 'version.rollback', target: `dataset ${dataset.slug} v${target.number}`, detail: { previousVersion: dataset.activeVersion } });
     c.executionCtx.waitUntil(sweepQuietly(c.env));
     return c.json({ dataset: dataset.slug, ...switched, graceSeconds: graceSeconds(c.env) });
   });
@@ -141,4 +153,11 @@ function versionView(row: VersionRow) {
   };
 }
 
+/** The build's `maxK` query parameter: k nearest served, a whole number 1..MAX_K (default 1). */
+function buildMaxK(value: string | undefined): number {
+  if (value === undefined) return 1;
+  const n = Number(value);
+  if (!/^\d+$/.test(value) || n < 1 || n > MAX_K) throw new ApiError(400, 'invalid_max_k', `maxK: expected a whole number from 1 to ${MAX_K}, got "${value}"`, 'maxK');
+  return n;
+}
 const isLayoutChoice = (value: string): value is LayoutChoice => (LAYOUT_CHOICES as readonly string[]).includes(value);

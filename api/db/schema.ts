@@ -71,6 +71,12 @@ export const versions = sqliteTable(
     manifestKey: text('manifest_key'),
     matrixKey: text('matrix_key'),
     contentHash: text('content_hash'),
+    /**
+     * 32 random bytes (hex) from which the build derives every record key (core/details/seal.ts).
+     * Server-side only: never served, never in a manifest. Drawn once, before the first build,
+     * so a rebuild of the same version gives the same bytes.
+     */
+    detailsSecret: text('details_secret'),
     error: text('error'),
     createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
     builtAt: text('built_at'),

@@ -28,3 +28,18 @@ export async function recordAnsweredQuery(db: Database, q: AnsweredQuery, now = 
       },
     });
 }
+
+/**
+ * Counts bytes served outside a query (the sealed file of a version's details) against the key,
+ * dataset, version and day, with the same single upsert; it adds no query and no products.
+ */
+export async function recordDownload(db: Database, d: { credentialId: string; datasetId: string; version: number; bytesOut: number }, now = new Date()): Promise<void> {
+  const day = utcDay(now);
+  await db
+    .insert(usageDaily)
+    .values({ ...d, day, queries: 0, bytesIn: 0, multiplications: 0 })
+    .onConflictDoUpdate({
+      target: [usageDaily.credentialId, usageDaily.datasetId, usageDaily.version, usageDaily.day],
+      set: { bytesOut: sql`${usageDaily.bytesOut} + ${d.bytesOut}` },
+    });
+}

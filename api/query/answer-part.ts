@@ -1,12 +1,10 @@
 import { WorkerEntrypoint } from 'cloudflare:workers';
-import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
 import { sliceColumns } from '../../core/matrix/slice-columns.ts';
-import type { AnswerPlan } from '../../core/pir/answer-plan.ts';
 import { partPlan } from '../../core/pir/fan-out.ts';
 import { unblindedRowProducts } from '../../core/pir/planned-answer.ts';
 import { decodeQuery, encodeAnswer } from '../../core/pir/wire.ts';
 import type { Env } from '../env.ts';
-import { loadMatrix } from './version-cache.ts';
+import { loadMatrix, matrixCache } from './version-cache.ts';
 import { productEngine } from './product-engine.ts';
 
 export interface PartRequest {
@@ -24,8 +22,6 @@ export interface PartResult {
   products: number;
 }
 
-/** Column slices and their plans, per isolate; keyed by matrix and range. */
-const slices = new Map<string, { slice: BitMatrix; plan: AnswerPlan }>();
 
 /**
  * One part of a fanned-out answer, reached only through the Worker's service binding to itself
@@ -35,15 +31,16 @@ const slices = new Map<string, { slice: BitMatrix; plan: AnswerPlan }>();
 export class AnswerPart extends WorkerEntrypoint<Env> {
   async rowProducts(request: PartRequest): Promise<PartResult> {
     const key = `${request.matrixKey}:${request.from}-${request.to}`;
-    let entry = slices.get(key);
-    if (!entry) {
+    // Column slices and their plans share the matrices' byte budget, keyed by matrix and range.
+    let entry = matrixCache.get(key);
+    if (!entry?.plan) {
       const slice = sliceColumns(await loadMatrix(this.env, request.matrixKey), request.from, request.to);
-      entry = { slice, plan: partPlan(slice) };
-      if (slices.size >= 16) slices.delete(slices.keys().next().value!);
-      slices.set(key, entry);
+      entry = { matrix: slice, plan: partPlan(slice) };
+      matrixCache.set(key, entry);
     }
+    const { matrix, plan } = entry;
     const { n, values } = decodeQuery(request.query);
-    const { rows, products } = unblindedRowProducts(entry.slice, values, entry.plan, productEngine(n));
+    const { rows, products } = unblindedRowProducts(matrix, values, plan ?? partPlan(matrix), productEngine(n));
     return { rows: encodeAnswer((n.toString(2).length + 7) >> 3, rows), products };
   }
 }

@@ -1,40 +1,26 @@
 import { Hono } from 'hono';
 import { cors } from 'hono/cors';
 import type { Manifest } from '../../core/geo/manifest.ts';
-import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
-import { answerWithPlan } from '../../core/pir/planned-answer.ts';
-import { validateQuery } from '../../core/pir/validate.ts';
-import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import { assertKeyScope } from '../auth/key-scope.ts';
 import { requireCredential } from '../auth/require-credential.ts';
-import { database } from '../db/client.ts';
+import { database, type Database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
-import { readLimitedBytes } from '../http/body-limit.ts';
 import { pathSlug, pathVersion } from '../http/params.ts';
 import { findDataset, findVersion, isAnswerable, type DatasetRow, type VersionRow } from '../datasets/repository.ts';
-import { assertKeyScope } from '../auth/key-scope.ts';
-import { secondsToNextMonth, utcMonth } from '../metering/calendar.ts';
 import { countRejections } from '../metering/count-rejections.ts';
-import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
-import { recordAnsweredQuery } from '../metering/record-usage.ts';
-import { blobKeys } from '../storage/blobs.ts';
-import { splitColumns } from '../../core/pir/fan-out.ts';
-import { answerByParts } from './fanned-answer.ts';
-import { answerPlanFor, loadManifest, loadMatrix } from './version-cache.ts';
-import { productEngine } from './product-engine.ts';
-
-/** About 10-15 s of plain BigInt products: above it, one answer is split over parts. */
-const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
+import { recordDownload } from '../metering/record-usage.ts';
+import { blobKeys, getBlobStream } from '../storage/blobs.ts';
+import { answerColumnQuery } from './answer-column.ts';
+import { loadManifest } from './version-cache.ts';
 
 export const publicRoutes = new Hono<AppBindings>()
-  // Apps in browsers call these routes; Server-Timing must be readable by them.
-  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications'], maxAge: 600 }))
+  // Apps in browsers call these routes; Server-Timing and ETag must be readable by them.
+  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications', 'ETag'], maxAge: 600 }))
   .use('/datasets/*', requireCredential('query'))
   .get('/datasets/:dataset/manifest', async (c) => {
     const db = database(c.env);
-    const slug = pathSlug(c.req.param('dataset'), 'dataset');
-    assertKeyScope(c.var.keyScope, slug);
-    const dataset = await findDataset(db, c.var.tenantId, slug);
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const requested = c.req.query('version');
     const number = requested === undefined ? activeVersionOf(dataset) : pathVersion(requested);
     const version = await servedVersion(db, dataset, number);
@@ -45,63 +31,70 @@ export const publicRoutes = new Hono<AppBindings>()
   })
   .post('/datasets/:dataset/versions/:version/query', countRejections(), async (c) => {
     const db = database(c.env);
-    const slug = pathSlug(c.req.param('dataset'), 'dataset');
-    assertKeyScope(c.var.keyScope, slug);
-    const dataset = await findDataset(db, c.var.tenantId, slug);
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
     const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
     const manifest = await loadManifest(c.env, version.manifestKey!);
     const target = queriedMatrix(manifest, version, c.req.query('matrix'));
-    const columns = target.columns;
-    const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), columns);
-    // The exact size a query on this version can have, checked as the body streams in.
-    const body = await readLimitedBytes(c.req.raw, largest);
-    const started = performance.now();
-    const { n, values } = decodeQuery(body);
-    validateQuery(n, values, columns);
-    // The quota slot is taken only for a well-formed query, and given back if no answer goes out.
-    const now = new Date();
-    const month = utcMonth(now);
-    if (!(await takeQuotaSlot(db, c.var.credentialId, month, c.var.monthlyQuota))) {
-      const retryAfter = secondsToNextMonth(now);
-      throw new ApiError(429, 'quota_exceeded', `this API key has used its ${c.var.monthlyQuota} queries for ${month}; the quota renews in ${retryAfter} s (next UTC month)`, 'authorization', {
-        'Retry-After': String(retryAfter),
-      });
-    }
-    let answer: Uint8Array;
-    let multiplications: number;
-    let serverMs: number;
-    try {
-      const matrix = await loadMatrix(c.env, target.key);
-      const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
-      const parts = splitColumns(columns, target.plan.products, perPart);
-      const answered =
-        parts.length > 1 && c.env.PARTS
-          ? await answerByParts(matrix, target.key, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
-          : // The plan the build chose for this matrix (recorded in its manifest).
-            answerWithPlan(matrix, values, answerPlanFor(target.plan, target.contentHash, matrix), productEngine(n));
-      multiplications = answered.products;
-      answer = encodeAnswer((n.toString(2).length + 7) >> 3, answered.rows);
-      serverMs = performance.now() - started;
-      // Counted before the answer goes out: every answer a client receives is in the usage.
-      await recordAnsweredQuery(db, {
-        credentialId: c.var.credentialId,
-        datasetId: dataset.id,
-        version: version.number,
-        bytesIn: body.length,
-        bytesOut: answer.length,
-        multiplications,
-      }, now);
-    } catch (err) {
-      await releaseQuotaSlot(db, c.var.credentialId, month).catch((e: unknown) => console.error('nearveil: quota slot not released', e));
-      throw err;
-    }
-    return c.body(answer.buffer as ArrayBuffer, 200, {
-      'Content-Type': 'application/octet-stream',
-      'Server-Timing': `answer;dur=${serverMs.toFixed(1)};desc="PIR answer"`,
-      'X-Nearveil-Multiplications': String(multiplications),
-      'Cache-Control': 'no-store',
+    return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
+      matrixKey: target.key,
+      contentHash: target.contentHash,
+      columns: target.columns,
+      plan: target.plan,
+      label: 'answer',
     });
+  })
+  // The details round (core/details/DETAILS.md): the same PIR query, on the matrix of record keys.
+  .post('/datasets/:dataset/versions/:version/details/query', countRejections(), async (c) => {
+    const db = database(c.env);
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
+    const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
+    const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
+    return answerColumnQuery(c, db, { datasetId: dataset.id, version: version.number }, {
+      matrixKey: blobKeys.matrix(details.matrix.contentHash),
+      contentHash: details.matrix.contentHash,
+      columns: details.matrix.columns,
+      plan: details.matrix.plan,
+      label: 'details',
+    });
+  })
+  // Every sealed record of the version in one immutable file: every client downloads all of it,
+  // so the download says nothing about which site it wants. Metered as bytes, no query.
+  .get('/datasets/:dataset/versions/:version/details/sealed', async (c) => {
+    const db = database(c.env);
+    const dataset = await scopedDataset(c.var, db, c.req.param('dataset'));
+    const version = await servedVersion(db, dataset, pathVersion(c.req.param('version')));
+    const details = detailsOf(await loadManifest(c.env, version.manifestKey!));
+    const etag = `"${details.sealedHash}"`;
+    // The file never changes (its key is its SHA-256): a browser or the SDK keeps it.
+    const caching = { ETag: etag, 'Cache-Control': 'private, max-age=31536000, immutable' };
+    if (ifNoneMatch(c.req.header('if-none-match'), etag)) return c.body(null, 304, caching);
+    const blob = await getBlobStream(c.env, blobKeys.sealed(details.sealedHash));
+    if (blob === null) throw new Error(`sealed file ${details.sealedHash} is missing`);
+    await recordDownload(db, { credentialId: c.var.credentialId, datasetId: dataset.id, version: version.number, bytesOut: blob.size });
+    return c.body(blob.body, 200, { ...caching, 'Content-Type': 'application/octet-stream', 'Content-Length': String(blob.size) });
   });
+
+async function scopedDataset(vars: AppBindings['Variables'], db: Database, raw: string | undefined): Promise<DatasetRow> {
+  const slug = pathSlug(raw, 'dataset');
+  assertKeyScope(vars.keyScope, slug);
+  return findDataset(db, vars.tenantId, slug);
+}
+
+/** RFC 9110, 13.1.2: If-None-Match holds "*" or a list of entity tags (weak ones compare too). */
+function ifNoneMatch(header: string | undefined, etag: string): boolean {
+  if (!header) return false;
+  return header.split(',').some((t) => {
+    const tag = t.trim();
+    return tag === '*' || tag === etag || tag === `W/${etag}`;
+  });
+}
+
+function detailsOf(manifest: Manifest): NonNullable<Manifest['details']> {
+  if (!manifest.details) {
+    throw new ApiError(404, 'details_unavailable', `version ${manifest.version} of "${manifest.dataset}" was built without private details; build a new version to add them`, 'version');
+  }
+  return manifest.details;
+}
 
 /**
  * The matrix a query asks: `?matrix=cells` (the default: candidate lists) or `?matrix=partition`

@@ -5,14 +5,18 @@ import type { BitMatrix } from '../../core/matrix/bit-matrix.ts';
 import { decodeMatrixBlob } from '../../core/matrix/matrix-blob.ts';
 import type { Env } from '../env.ts';
 import { getBlobBytes, getBlobText } from '../storage/blobs.ts';
+import { ByteBoundedCache } from './byte-bounded-cache.ts';
 
 /**
  * Manifests and matrices are immutable once built (keys carry the version or content hash), so
- * an isolate may keep the few it answers from. Bounded so a Worker's memory stays small.
+ * an isolate may keep the few it answers from. Matrices and the parts' column slices share one
+ * byte budget: with one answer's working memory (at most ANSWER_MEMORY_BUDGET_BYTES, checked at
+ * build) the isolate stays under the 128 MB a Worker may use.
  */
-const MAX_MATRICES = 4;
+export const MATRIX_CACHE_BYTES = 32 * 2 ** 20;
+const MAX_MINED_PLANS = 4;
 const manifests = new Map<string, Manifest>();
-const matrices = new Map<string, BitMatrix>();
+export const matrixCache = new ByteBoundedCache<{ matrix: BitMatrix; plan?: AnswerPlan }>(MATRIX_CACHE_BYTES, (e) => e.matrix.words.byteLength);
 const minedPlans = new Map<string, MinedPlan>();
 
 export async function loadManifest(env: Env, key: string): Promise<Manifest> {
@@ -27,18 +31,12 @@ export async function loadManifest(env: Env, key: string): Promise<Manifest> {
 }
 
 export async function loadMatrix(env: Env, key: string): Promise<BitMatrix> {
-  const hit = matrices.get(key);
-  if (hit) {
-    // Refresh recency: Map keeps insertion order, the first key is the least recently used.
-    matrices.delete(key);
-    matrices.set(key, hit);
-    return hit;
-  }
+  const hit = matrixCache.get(key);
+  if (hit) return hit.matrix;
   const bytes = await getBlobBytes(env, key);
   if (bytes === null) throw new Error(`matrix blob ${key} is missing`);
   const matrix = decodeMatrixBlob(bytes);
-  if (matrices.size >= MAX_MATRICES) matrices.delete(matrices.keys().next().value!);
-  matrices.set(key, matrix);
+  matrixCache.set(key, { matrix });
   return matrix;
 }
 
@@ -56,7 +54,7 @@ export function answerPlanFor(record: PlanRecord, contentHash: string, matrix: B
     if (minedProducts(mined) !== record.products) {
       throw new Error(`mined plan of ${contentHash} costs ${minedProducts(mined)} products, the build recorded ${record.products}`);
     }
-    if (minedPlans.size >= MAX_MATRICES) minedPlans.delete(minedPlans.keys().next().value!);
+    if (minedPlans.size >= MAX_MINED_PLANS) minedPlans.delete(minedPlans.keys().next().value!);
     minedPlans.set(contentHash, mined);
   }
   return { kind: 'mined', mined };

@@ -9,6 +9,8 @@ export const blobKeys = {
   table: (sha256: string) => `tables/${sha256}.csv`,
   matrix: (sha256: string) => `matrices/${sha256}.nvm`,
   manifest: (datasetId: string, version: number) => `manifests/${datasetId}/${version}.json`,
+  /** A version's sealed records (core/details/sealed-file.ts), by SHA-256. Details matrices are matrices. */
+  sealed: (sha256: string) => `sealed/${sha256}.nvs`,
 };
 
 export async function putBlob(env: Env, key: string, body: Uint8Array | string): Promise<void> {
@@ -23,4 +25,10 @@ export async function getBlobBytes(env: Env, key: string): Promise<Uint8Array | 
 export async function getBlobText(env: Env, key: string): Promise<string | null> {
   const object = await env.BLOBS.get(key);
   return object ? object.text() : null;
+}
+
+/** The stored object as a stream, for large blobs served whole (the sealed file); null when absent. */
+export async function getBlobStream(env: Env, key: string): Promise<{ body: ReadableStream; size: number } | null> {
+  const object = await env.BLOBS.get(key);
+  return object ? { body: object.body, size: object.size } : null;
 }

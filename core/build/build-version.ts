@@ -1,15 +1,18 @@
-import { ManifestSchema, type Layout, type Manifest, type PartitionMatrix } from '../geo/manifest.ts';
+import { ManifestSchema, MAX_K, regionCount, type Layout, type Manifest, type PartitionMatrix } from '../geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
 import type { SiteTable } from '../geo/site-table.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, type AnswerPlan } from '../pir/answer-plan.ts';
-import type { PlanRecord } from '../geo/manifest.ts';
+import { InputError } from '../errors/input-error.ts';
+import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
+import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
+import { buildDetails } from '../details/build-details.ts';
 import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
+import { planRecord } from './plan-record.ts';
 import { fillPartitionMatrix } from './fill-partition-matrix.ts';
 import { sha256Hex } from './sha256-hex.ts';
 
@@ -17,9 +20,12 @@ export interface BuildResult {
   manifest: Manifest;
   matrix: BitMatrix;
   matrixBlob: Uint8Array<ArrayBuffer>;
+  /** The sealed file and details matrix, when the build was given a details secret. */
+  details?: { sealedFile: Uint8Array<ArrayBuffer>; matrix: BitMatrix; matrixBlob: Uint8Array<ArrayBuffer> };
   /** Veiled layouts only: the partition matrix (first private round) and its stored form. */
   partition?: { matrix: BitMatrix; blob: Uint8Array<ArrayBuffer> };
-  stats: { regions: number; maxList: number; meanList: number; buildMs: number };
+  /** `listLengths[n]`: regions whose candidate list holds n sites (before padding). */
+  stats: { regions: number; maxList: number; meanList: number; listLengths: number[]; buildMs: number };
   /**
    * Every layout weighed, with its modelled cost per query (the chosen one is `chosen: true`);
    * veiled ones also give each round's cost. `eligible` is false for layouts weighed only for
@@ -33,6 +39,8 @@ export interface BuildResult {
     chosen: boolean;
     eligible: boolean;
     cost: ShapeCost;
+    /** True when only a lower bound was computed (the layout lost on that bound alone). */
+    bound: boolean;
     rounds?: { partition: ShapeCost; cells: ShapeCost };
   }>;
 }
@@ -41,16 +49,38 @@ export interface BuildResult {
 const MODULUS_BITS: Manifest['modulusBits'] = [2048, 3072];
 
 /**
+ * Mining column sets (mined-plan.ts) grows faster than the matrix; past this many bits it takes
+ * longer than the rest of the build together, and the server would have to mine again. Larger
+ * matrices weigh plain and blocked plans only.
+ */
+export const MINE_LIMIT_BITS = 4_000_000;
+
+/** Where a build is: stage name and overall percent (0-100, never decreasing). */
+export interface BuildProgress {
+  stage: 'regions' | 'matrix' | 'plan' | 'hash' | 'done';
+  percent: number;
+}
+
+export interface BuildOptions {
+  /** Called as the build moves on; a returned promise is awaited between stages (never inside one). */
+  onProgress?: (p: BuildProgress) => void | Promise<void>;
+}
+
+/**
  * Builds one version of a site table: quantised coordinates, a grid layout with exact candidate
  * lists (core/geo/region-lists.ts), the packed cell matrix, its stored form and the manifest.
  * Deterministic: the same table and meta give the same blob, hash and manifest; only
  * stats.buildMs varies. Site index = position in `table.sites`.
+ * With `detailsSecret` (32 bytes from a CSPRNG, kept server-side only) it also seals every
+ * record and lays out the details matrix (core/details); without it, the version has no
+ * private details (manifest.details absent). Throws InputError `record_too_large` naming rows.
  * Throws RangeError for an empty table or bad meta; the manifest is re-checked against
  * ManifestSchema before it is returned.
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean },
+  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; maxK?: number; detailsSecret?: Uint8Array; memoryBudgetBytes?: number },
+  options: BuildOptions = {},
 ): Promise<BuildResult> {
   const started = performance.now();
   const n = table.sites.length;
@@ -61,6 +91,16 @@ export async function buildVersion(
   if (!Number.isSafeInteger(meta.version) || meta.version < 1) {
     throw new RangeError(`buildVersion: expected version >= 1, got ${meta.version}`);
   }
+  const maxK = meta.maxK ?? 1;
+  if (!Number.isSafeInteger(maxK) || maxK < 1 || maxK > MAX_K) throw new RangeError(`buildVersion: expected maxK in 1..${MAX_K}, got ${meta.maxK}`);
+  let percent = 0;
+  const report = (stage: BuildProgress['stage'], at: number) => {
+    percent = Math.max(percent, Math.min(100, Math.round(at * 10) / 10));
+    return options.onProgress?.({ stage, percent });
+  };
+  await report('regions', 0);
+  // Details first: a record over the size limit fails the build before the costly geometry.
+  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(table, meta.detailsSecret);
   const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
   const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
@@ -68,11 +108,19 @@ export async function buildVersion(
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
   const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', { weighAll: meta.weighAll === true });
+  const { chosen, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
+    weighAll: meta.weighAll === true,
+    k: maxK,
+    onProgress: (share) => void report('regions', 80 * share),
+  });
+  const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
+  const choice = layoutWithinMemory(chosen, tried, meta.layout ?? 'auto', budget);
+  await report('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
-  const planned = choosePlan(matrix);
+  await report('plan', 85);
+  const planned = planWithinMemory(choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS }), matrix.rows, matrix.columns, budget);
   const partition = choice.partition && choice.layout.kind === 'veiled' ? fillPartitionMatrix(choice.partition.records, choice.layout, choice.partition.packing) : undefined;
   const partitionBlob = partition ? encodeMatrixBlob(partition) : undefined;
   let partitionRecord: PartitionMatrix | undefined;
@@ -82,10 +130,11 @@ export async function buildVersion(
       columns: partition.columns,
       cellsPerColumn: choice.partition!.packing.regionsPerColumn,
       ones: countOnes(partition),
-      plan: planRecord(choosePlan(partition)),
+      plan: planRecord(planWithinMemory(choosePlan(partition), partition.rows, partition.columns, budget)),
       contentHash: await sha256Hex(partitionBlob),
     };
   }
+  await report('hash', 97);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,
@@ -95,6 +144,7 @@ export async function buildVersion(
     contentHash: await sha256Hex(matrixBlob),
     modulusBits: MODULUS_BITS,
     layout: choice.layout,
+    maxK,
     record,
     matrix: {
       rows: matrix.rows,
@@ -104,47 +154,104 @@ export async function buildVersion(
       plan: planRecord(planned),
     },
     siteIds: table.sites.map((s) => s.id),
+    ...(details
+      ? {
+          details: {
+            columns: details.columns,
+            recordBytes: details.recordBytes,
+            sealedRecordBytes: details.sealedRecordBytes,
+            sealedHash: details.sealedHash,
+            sealedBytes: details.sealedFile.length,
+            keyBits: 128 as const,
+            keysPerColumn: details.keysPerColumn,
+            matrix: {
+              contentHash: details.matrixHash,
+              rows: details.matrix.rows,
+              columns: details.matrix.columns,
+              ones: countOnes(details.matrix),
+              plan: planRecord(details.plan),
+            },
+          },
+        }
+      : {}),
     ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
+  await report('done', 100);
   return {
     manifest,
     matrix,
     matrixBlob,
+    ...(details ? { details: { sealedFile: details.sealedFile, matrix: details.matrix, matrixBlob: details.matrixBlob } } : {}),
     ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
       maxList: record.slotsPerRegion,
       meanList: total / choice.lists.length,
+      listLengths: lengthCounts(choice.lists),
       buildMs: performance.now() - started,
     },
     layoutsTried: tried.map((g: LayoutCandidate) => ({
       label: g.label,
       kind: g.layout.kind,
-      regions: g.lists.length,
+      regions: regionCount(g.layout),
       maxList: g.slotsPerRegion,
       chosen: g === choice,
       eligible: g.eligible,
       cost: g.cost,
+      bound: g.bound,
       ...(g.partition ? { rounds: g.partition.rounds } : {}),
     })),
   };
+}
+
+function lengthCounts(lists: readonly Int32Array[]): number[] {
+  const counts: number[] = [];
+  for (const l of lists) counts[l.length] = (counts[l.length] ?? 0) + 1;
+  return Array.from(counts, (c) => c ?? 0);
+}
+
+/** Memory is checked at the largest modulus a client may use: its slots are the widest. */
+const MEMORY_CHECK_BITS = Math.max(...MODULUS_BITS);
+const MiB = (bytes: number) => (bytes / 2 ** 20).toFixed(0);
+
+/**
+ * The chosen layout if a Worker can answer from its matrix; under 'auto' the cheapest layout
+ * that fits otherwise. A layout asked for by name that does not fit is refused (InputError).
+ * The least memory any plan needs is the blocked plan with two-column tables.
+ */
+type BuiltCandidate = LayoutCandidate & { lists: Int32Array[] };
+
+function layoutWithinMemory(chosen: BuiltCandidate, tried: LayoutCandidate[], asked: LayoutChoice, budget: number): BuiltCandidate {
+  const least = (c: LayoutCandidate) => answerMemory(c.packing.rows, c.packing.columns, { kind: 'blocked', blockColumns: 2 }, MEMORY_CHECK_BITS).peakBytes;
+  if (least(chosen) <= budget) return chosen;
+  // Only layouts whose lists were built (a bounded grid already lost on cost) can stand in.
+  const fitting = tried.filter((c): c is BuiltCandidate => c.lists !== null && least(c) <= budget);
+  if (asked === 'auto' && fitting.length > 0) return fitting.reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
+  throw new InputError(
+    'matrix_too_large',
+    'layout',
+    `layout ${chosen.label} needs a ${chosen.packing.rows} x ${chosen.packing.columns} matrix: answering from it takes ${MiB(least(chosen))} MiB, ` +
+      `more than the ${MiB(budget)} MiB a Worker may use for one answer` + (asked === 'auto' ? '' : '; try the adaptive layout'),
+    { status: 422 },
+  );
+}
+
+function planShape(p: AnswerPlan): PlanShape {
+  return p.kind === 'mined' ? { kind: 'mined', rules: p.mined.rules.length } : p;
+}
+
+/** The plan with the fewest products among those whose working memory fits the budget. */
+function planWithinMemory(choice: PlanChoice, rows: number, columns: number, budget: number): PlanChoice {
+  const fits = (p: AnswerPlan) => answerMemory(rows, columns, planShape(p), MEMORY_CHECK_BITS).peakBytes <= budget;
+  if (fits(choice.plan)) return choice;
+  const best = choice.weighed.filter((w) => fits(w.plan)).reduce<(typeof choice.weighed)[number] | null>((a, w) => (a === null || w.products < a.products ? w : a), null);
+  if (best === null) throw new InputError('matrix_too_large', 'layout', `no answer plan fits ${MiB(budget)} MiB on a ${rows} x ${columns} matrix`, { status: 422 });
+  return { plan: best.plan, products: best.products, weighed: choice.weighed };
 }
 
 function popcount(x: number): number {
   let count = 0;
   for (let v = x >>> 0; v !== 0; v &= v - 1) count++;
   return count;
-}
-
-const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
-
-/** The manifest's account of the answer plan: the choice, its products, and all plans weighed. */
-function planRecord(choice: ReturnType<typeof choosePlan>): PlanRecord {
-  const plainProducts = choice.weighed[0]!.products;
-  const weighed = choice.weighed.map((w) => ({ plan: planName(w.plan), products: w.products }));
-  const p = choice.plan;
-  if (p.kind === 'blocked') return { kind: 'blocked', blockColumns: p.blockColumns, products: choice.products, plainProducts, weighed };
-  if (p.kind === 'mined') return { kind: 'mined', rules: p.mined.rules.length, products: choice.products, plainProducts, weighed };
-  return { kind: 'plain', products: choice.products, plainProducts, weighed };
 }

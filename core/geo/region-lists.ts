@@ -13,14 +13,22 @@ import type { SitePoints } from './site-points.ts';
  * site lies in the box, so a Voronoi cell reaching outside crosses the box's outer boundary.
  * Boundary pieces are resolved once (boundary.ts) and shared by both cells beside them.
  */
-export function gridCandidateLists(points: SitePoints, g: GridLayout): Int32Array[] {
+export function gridCandidateLists(
+  points: SitePoints,
+  g: GridLayout,
+  options: { k?: number; onProgress?: (share: number) => void } = {},
+): Int32Array[] {
+  const k = options.k ?? 1;
+  const pieces = (g.rows + 1) * g.cols + g.rows * (g.cols + 1);
+  let done = 0;
   const { rows, cols } = g;
   const outside = rows * cols;
   const full = isFullCircle(g);
   const sets: Set<number>[] = Array.from({ length: outside + 1 }, () => new Set<number>());
   const share = (seg: Segment, regions: number[]) => {
     const found = new Set<number>();
-    segmentLocations(points, seg, found);
+    segmentLocations(points, seg, found, k);
+    if (++done % 256 === 0) options.onProgress?.(done / pieces);
     for (const r of regions) for (const k of found) sets[r]!.add(k);
   };
   // Meridian pieces: meridian j between parallels i and i + 1 borders cells (i, j - 1) and (i, j).

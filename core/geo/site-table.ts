@@ -15,6 +15,8 @@ export interface Site {
 export interface SiteTable {
   sites: Site[];
   detailColumns: string[];
+  /** The spreadsheet row of each site (header = row 1), when the table was read from a file: errors name it. */
+  rows?: number[];
 }
 
 /** Largest table a build accepts; larger ones get `site_table_too_large` (HTTP 413). */
@@ -83,7 +85,7 @@ function fail(issues: InputIssue[]): never {
  */
 export function parseSiteTable(csv: string): SiteTable {
   if (typeof csv !== 'string') throw new TypeError(`parseSiteTable: expected a string, got ${typeof csv}`);
-  const { records, problems } = readCsv(csv);
+  const { records, problems: csvProblems } = readCsv(csv);
   const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
   if (records.length === 0 || records.every(isBlank)) {
     fail([{ row: 1, message: 'expected a header row and at least one site row, got an empty file' }]);
@@ -96,8 +98,23 @@ export function parseSiteTable(csv: string): SiteTable {
       { status: 413 },
     );
   }
+  const problems = csvProblems.map((p) => ({ row: p.record, message: p.message }));
+  const { table, issues } = inspectSiteRecords(records, problems);
+  if (issues.length > 0) fail(issues);
+  return table;
+}
+
+/**
+ * Checks a site table already split into records (header first) and returns every issue, not
+ * only the first 50: the console marks each invalid cell with it before saving. Rows are
+ * numbered as in parseSiteTable (header row 1). `table` holds the valid sites only; it is
+ * complete exactly when `issues` is empty. Header problems stop the row checks.
+ */
+export function inspectSiteRecords(records: string[][], problems: InputIssue[] = []): { table: SiteTable; issues: InputIssue[] } {
+  const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
+  if (records.length === 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues: [{ row: 1, message: 'expected a header row, got none' }] };
   const header = records[0]!.map((h) => h.trim());
-  const issues: InputIssue[] = problems.map((p) => ({ row: p.record, message: p.message }));
+  const issues: InputIssue[] = [...problems];
   const position = new Map<string, number>();
   header.forEach((h, i) => {
     const key = h.toLowerCase();
@@ -115,7 +132,7 @@ export function parseSiteTable(csv: string): SiteTable {
     }
   }
   if (records.length === 1) issues.push({ row: 2, message: 'expected at least one site row, got none' });
-  if (issues.length > 0) fail(issues);
+  if (issues.length > 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues };
 
   const at = (key: string) => position.get(key);
   const nameAt = at('name');
@@ -124,6 +141,7 @@ export function parseSiteTable(csv: string): SiteTable {
   const detailColumns = detailAt.map((i) => header[i]!);
   const firstRowOfId = new Map<string, number>();
   const sites: Site[] = [];
+  const rows: number[] = [];
   for (let r = 1; r < records.length; r++) {
     const row = r + 1;
     const cells = records[r]!;
@@ -154,7 +172,7 @@ export function parseSiteTable(csv: string): SiteTable {
     // fromEntries defines own properties, so a column named "__proto__" stays a plain detail.
     const details: Record<string, string> = Object.fromEntries(detailAt.map((i, k) => [detailColumns[k]!, cells[i]!]));
     sites.push({ id, name: nameText === '' ? null : nameText, lat, lon, details });
+    rows.push(row);
   }
-  if (issues.length > 0) fail(issues);
-  return { sites, detailColumns };
+  return { table: { sites, detailColumns, rows }, issues };
 }

@@ -12,7 +12,8 @@ import type { ProductEngine } from '../pir/product-engine.ts';
  * the Montgomery form directly (a uniform form is a uniform value), getMany converts back in
  * batches with a kernel product by a plain 1.
  */
-export type MontgomeryKernel = ProductEngine;
+/** A ProductEngine that also reports the bytes of its WebAssembly memory (slots plus fixed areas). */
+export type MontgomeryKernel = ProductEngine & { readonly memoryBytes: number };
 
 
 /**
@@ -86,6 +87,7 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   const shift = BigInt(limbs * limbBits);
   const rModN = (1n << shift) % n;
   const rInverse = modInverse(rModN, n);
+  const rSquaredModN = (rModN * rModN) % n;
   const indexBase = (e.index.value as number) / 4;
   const capacity = e.indexCapacity.value as number;
   const slotBase = (e.slots.value as number) / 4;
@@ -135,6 +137,9 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
     modulus: n,
     get slots() {
       return slots;
+    },
+    get memoryBytes() {
+      return e.memory.buffer.byteLength;
     },
     ensureSlots(count: number) {
       if (!Number.isSafeInteger(count) || count < 0) throw new RangeError(`ensureSlots: expected integer count >= 0, got ${count}`);
@@ -192,6 +197,26 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
       if (typeof x !== 'bigint') throw new TypeError(`set: expected bigint value, got ${typeof x}`);
       if (x < 0n || x >= n) throw new RangeError(`set: expected value in [0, n), got ${x < 0n ? 'a negative value' : 'a value >= n'}`);
       writeValue(slot, (x << shift) % n);
+    },
+    setMany(targets: ArrayLike<number>, values: readonly bigint[]) {
+      if (targets.length !== values.length) throw new RangeError(`setMany: expected as many values as slots, got ${values.length} and ${targets.length}`);
+      // Plain limbs first, then one batched product by R^2 mod n each: (x R^2) / R = x R, the
+      // Montgomery form, without a BigInt division per value.
+      const count = targets.length;
+      const square = reserved;
+      grow(square + 1);
+      writeValue(square, rSquaredModN);
+      const out = new Uint32Array(count);
+      for (let i = 0; i < count; i++) {
+        const slot = targets[i]!;
+        const x = values[i]!;
+        checkSlotIndex('setMany', slot, square);
+        if (typeof x !== 'bigint') throw new TypeError(`setMany: expected bigint value, got ${typeof x}`);
+        if (x < 0n || x >= n) throw new RangeError(`setMany: expected value in [0, n), got ${x < 0n ? 'a negative value' : 'a value >= n'}`);
+        writeValue(slot, x);
+        out[i] = slot;
+      }
+      kernel.multiplyMany(out, out, new Uint32Array(count).fill(square), count);
     },
     get(slot: number) {
       checkSlotIndex('get', slot, slots);
@@ -256,41 +281,55 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   return kernel;
 }
 
-/** Little-endian limbs of `bits` bits of 0 <= x < 2^(bits * count), from its hex digits read six at a time. */
+/** Hex digit values by character code ('0'-'9', 'a'-'f'); BigInt#toString(16) writes lower case. */
+const HEX_VALUE = (() => {
+  const table = new Uint8Array(128);
+  for (let d = 0; d < 16; d++) table['0123456789abcdef'.charCodeAt(d)] = d;
+  return table;
+})();
+const HEX_CODE = Uint8Array.from('0123456789abcdef', (ch) => ch.charCodeAt(0));
+const ascii = new TextDecoder();
+
+/**
+ * The low `count` little-endian limbs of `bits` bits of x >= 0: its hex digits read from the
+ * last, four bits at a time (one pass over the string, no slices: answers convert thousands).
+ */
 function toLimbs(x: bigint, count: number, bits: number): Uint32Array {
   const hex = x.toString(16);
   const out = new Uint32Array(count);
-  const radix = 2 ** bits;
-  let buffer = 0; // below 2^(bits + 24): exact in a double
-  let scale = 1;
+  const mask = 2 ** bits - 1;
+  let buffer = 0; // below 2^(bits + 4)
+  let held = 0;
   let j = 0;
-  for (let end = hex.length; end > 0 && j < count; end -= 6) {
-    buffer += parseInt(hex.slice(Math.max(0, end - 6), end), 16) * scale;
-    scale *= 2 ** 24;
-    while (scale >= radix && j < count) {
-      out[j++] = buffer % radix;
-      buffer = Math.floor(buffer / radix);
-      scale /= radix;
+  for (let i = hex.length - 1; i >= 0 && j < count; i--) {
+    buffer |= HEX_VALUE[hex.charCodeAt(i)]! << held;
+    held += 4;
+    if (held >= bits) {
+      out[j++] = buffer & mask;
+      buffer >>>= bits;
+      held -= bits;
     }
   }
   if (j < count) out[j] = buffer;
   return out;
 }
 
-/** The value of little-endian limbs of `bits` bits each (each below 2^bits), six hex digits at a time. */
+/** The value of little-endian limbs of `bits` bits each (each below 2^bits), as hex digits written high to low. */
 function fromLimbs(limbs: Uint32Array, bits: number): bigint {
-  const chunks: string[] = [];
+  const digits = Math.ceil((limbs.length * bits) / 4);
+  const text = new Uint8Array(digits);
   let buffer = 0;
   let held = 0;
-  for (const limb of limbs) {
-    buffer += limb * 2 ** held;
+  let at = digits;
+  for (let j = 0; j < limbs.length; j++) {
+    buffer |= limbs[j]! << held;
     held += bits;
-    while (held >= 24) {
-      chunks.push((buffer % 2 ** 24).toString(16).padStart(6, '0'));
-      buffer = Math.floor(buffer / 2 ** 24);
-      held -= 24;
+    while (held >= 4) {
+      text[--at] = HEX_CODE[buffer & 15]!;
+      buffer >>>= 4;
+      held -= 4;
     }
   }
-  chunks.push(buffer.toString(16));
-  return BigInt('0x' + chunks.reverse().join(''));
+  if (held > 0) text[--at] = HEX_CODE[buffer & 15]!;
+  return BigInt('0x' + ascii.decode(text.subarray(at)));
 }

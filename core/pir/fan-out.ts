@@ -11,6 +11,14 @@ export interface ColumnPart {
   readonly to: number;
 }
 
+/**
+ * Products per part unless the deployment says otherwise (FANOUT_PRODUCTS_PER_PART): about 5 s
+ * of CPU on the kernel at 2048 bits (about 2.5 us a product in `npm run bench`), 12 s at 3072,
+ * so no invocation nears the Workers default of 30 s CPU per request
+ * (developers.cloudflare.com/workers/platform/limits).
+ */
+export const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
+
 /** At most this many parts: each is a Worker invocation with its own CPU budget. */
 export const MAX_PARTS = 8;
 

@@ -8,8 +8,9 @@ import type { ProductEngine } from './product-engine.ts';
  * Same meaning as answerQuery (the plain BigInt reference); the products are batched so an
  * engine with parallel lanes stays busy. Returns the rows and the products done (for metering).
  *
- * Slots used: [0, R) row accumulators, then the plan's working slots, then 2R for blinding.
- * Memory: R accumulators plus one block table (blocked) or the C values (plain), never both.
+ * Slots used: [0, R) row accumulators, then the plan's working slots, then the blinding's
+ * (2 x min(R, BLINDING_CHUNK)). Memory: R accumulators plus the blocked plan's TABLES_AT_ONCE
+ * tables, or the C values (plain), or the C values and mined rules (mined).
  * The query must have passed validateQuery. Variable-time in the matrix (public to the server).
  */
 export function answerWithPlan(
@@ -37,7 +38,7 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   const R = matrix.rows;
   const started = new Uint8Array(R);
   const working = plan.kind === 'plain' ? matrix.columns : plan.kind === 'blocked' ? TABLES_AT_ONCE * 2 ** plan.blockColumns : matrix.columns + plan.mined.rules.length;
-  engine.ensureSlots(R + working + 2 * R);
+  engine.ensureSlots(R + working + blindingSlots(R));
   let products =
     plan.kind === 'plain'
       ? plainProducts(matrix, values, engine, started)
@@ -48,6 +49,11 @@ function runPlan(matrix: BitMatrix, values: readonly bigint[], plan: AnswerPlan,
   const rows = engine.getMany(0, R);
   if (!blinded) for (let r = 0; r < R; r++) if (!started[r]) rows[r] = 1n;
   return { rows, products };
+}
+
+/** Slots first, first + 1, ..., first + count - 1. */
+function consecutive(first: number, count: number): Uint32Array {
+  return Uint32Array.from({ length: count }, (_, i) => first + i);
 }
 
 /** Scratch index arrays for multiplyMany, grown on demand. */
@@ -83,7 +89,7 @@ class Batch {
 /** Plain: each row multiplies the values of its 1-columns. */
 function plainProducts(m: BitMatrix, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
   const R = m.rows;
-  for (let j = 0; j < m.columns; j++) engine.set(R + j, values[j]!);
+  engine.setMany(consecutive(R, m.columns), values);
   const rows: number[][] = [];
   for (let r = 0; r < R; r++) {
     const cols: number[] = [];
@@ -127,7 +133,7 @@ function multiplyRows(rows: ReadonlyArray<ArrayLike<number>>, engine: ProductEng
 function minedRowProducts(mined: MinedPlan, values: readonly bigint[], engine: ProductEngine, started: Uint8Array): number {
   const R = mined.rows.length;
   // Symbol s lives in slot R + s: values first, then rules in order.
-  for (let j = 0; j < mined.columns; j++) engine.set(R + j, values[j]!);
+  engine.setMany(consecutive(R, mined.columns), values);
   const depth = new Int32Array(mined.columns + mined.rules.length);
   const levels: number[][] = [];
   mined.rules.forEach(([a, b], i) => {
@@ -161,7 +167,15 @@ function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, eng
     for (let start = groupStart; start < Math.min(m.columns, groupStart + span); start += b) {
       blocks.push({ start, width: Math.min(b, m.columns - start), base: R + blocks.length * size });
     }
-    for (const { start, width, base } of blocks) for (let k = 0; k < width; k++) engine.set(base + (1 << k), values[start + k]!);
+    const singles: number[] = [];
+    const singleValues: bigint[] = [];
+    for (const { start, width, base } of blocks) {
+      for (let k = 0; k < width; k++) {
+        singles.push(base + (1 << k));
+        singleValues.push(values[start + k]!);
+      }
+    }
+    engine.setMany(singles, singleValues);
     // Level k: every subset whose highest member is k, from the subset without it (independent).
     for (let k = 1; k < b; k++) {
       const high = 1 << k;
@@ -189,21 +203,32 @@ function blockedProducts(m: BitMatrix, values: readonly bigint[], b: number, eng
 }
 
 /** Blocks whose tables are built together (memory: this many tables of 2^b slots). */
-const TABLES_AT_ONCE = 8;
+export const TABLES_AT_ONCE = 8;
+
+/** Rows blinded at a time: the blinding's working slots (s and s^2) stay 2 x this, whatever R is. */
+export const BLINDING_CHUNK = 1024;
+
+/** Working slots of the blinding for R rows. */
+export const blindingSlots = (R: number) => 2 * Math.min(R, BLINDING_CHUNK);
 
 /** z_r = acc_r * s_r^2 with a fresh uniform non-zero s_r per row: two products per row. */
 function blind(engine: ProductEngine, R: number, sBase: number, started: Uint8Array): number {
-  const squareBase = sBase + R;
+  const chunk = Math.min(R, BLINDING_CHUNK);
+  const squareBase = sBase + chunk;
   const batch = new Batch();
-  for (let r = 0; r < R; r++) {
-    if (!started[r]) engine.setOne(r);
-    // A non-unit s (sharing a factor with n) turns up with probability about 2^-1023.
-    engine.setRandomNonZero(sBase + r);
-    batch.push(squareBase + r, sBase + r, sBase + r);
+  let products = 0;
+  for (let from = 0; from < R; from += chunk) {
+    const to = Math.min(R, from + chunk);
+    for (let r = from; r < to; r++) {
+      if (!started[r]) engine.setOne(r);
+      // A non-unit s (sharing a factor with n) turns up with probability about 2^-1023.
+      engine.setRandomNonZero(sBase + r - from);
+      batch.push(squareBase + r - from, sBase + r - from, sBase + r - from);
+    }
+    products += batch.run(engine);
+    for (let r = from; r < to; r++) batch.push(r, r, squareBase + r - from);
+    products += batch.run(engine);
   }
-  let products = batch.run(engine);
-  for (let r = 0; r < R; r++) batch.push(r, r, squareBase + r);
-  products += batch.run(engine);
   return products;
 }
 
@@ -216,23 +241,14 @@ export function combineParts(parts: ReadonlyArray<readonly bigint[]>, engine: Pr
   if (parts.length === 0 || parts.some((p) => p.length !== R)) {
     throw new RangeError(`combineParts: expected parts of equal length, got ${parts.map((p) => p.length).join(', ') || 'none'}`);
   }
-  engine.ensureSlots(R * parts.length + 2 * R);
+  engine.ensureSlots(R * parts.length + blindingSlots(R));
   const started = new Uint8Array(R).fill(1);
-  const rows: number[][] = [];
-  for (let r = 0; r < R; r++) {
-    const slots: number[] = [];
-    parts.forEach((part, i) => {
-      const slot = R * i + r;
-      if (i > 0) engine.set(slot, part[r]!);
-      slots.push(i === 0 ? r : slot);
-    });
-    engine.set(r, parts[0]![r]!);
-    rows.push(slots);
-  }
+  // Part i's row r in slot R * i + r; the first part's rows are the accumulators.
+  parts.forEach((part, i) => engine.setMany(consecutive(R * i, R), part));
   let products = 0;
   const batch = new Batch();
   for (let i = 1; i < parts.length; i++) {
-    for (let r = 0; r < R; r++) batch.push(r, r, rows[r]![i]!);
+    for (let r = 0; r < R; r++) batch.push(r, r, R * i + r);
     products += batch.run(engine);
   }
   products += blind(engine, R, R * parts.length, started);

@@ -12,6 +12,8 @@ export interface ProductEngine {
   ensureSlots(count: number): void;
   /** Stores x in [0, n) in slot s. */
   set(slot: number, x: bigint): void;
+  /** Stores values[i] (each in [0, n)) in slots[i]; engines may convert many at once. Slots distinct. */
+  setMany(slots: ArrayLike<number>, values: readonly bigint[]): void;
   /** Reads slot s as an ordinary residue in [0, n). */
   get(slot: number): bigint;
   setOne(slot: number): void;
@@ -52,6 +54,10 @@ export function createBigIntEngine(n: bigint): ProductEngine {
     get(slot) {
       check('get', slot);
       return store[slot]!;
+    },
+    setMany(slots, values) {
+      if (slots.length !== values.length) throw new RangeError(`setMany: expected as many values as slots, got ${values.length} and ${slots.length}`);
+      for (let i = 0; i < values.length; i++) this.set(slots[i]!, values[i]!);
     },
     setOne(slot) {
       check('setOne', slot);

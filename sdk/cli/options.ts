@@ -68,6 +68,16 @@ export function requireString(value: string | undefined, flag: string, hint: str
   return value;
 }
 
+/** A count flag such as --k or --max-k: an integer within [min, max]; `fallback` when absent. */
+export function integerFlag(value: string | undefined, flag: string, min: number, max: number, fallback: number): number {
+  if (value === undefined) return fallback;
+  const n = Number(value);
+  if (!/^\s*\d+\s*$/.test(value) || !Number.isSafeInteger(n) || n < min || n > max) {
+    throw new CliError(`${flag}: expected a whole number from ${min} to ${max}, got "${value}"`);
+  }
+  return n;
+}
+
 /** A coordinate flag: a finite decimal number of degrees within [min, max]. */
 export function degrees(value: string | undefined, flag: string, min: number, max: number): number {
   const text = requireString(value, flag, `decimal degrees between ${min} and ${max}`);

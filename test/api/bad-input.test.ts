@@ -108,10 +108,16 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
     await expectRefused(() => adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', csv, 'application/json'), 415, 'content_type', 'content-type');
   });
 
-  it('refuses an unknown layout for a build, and builds the layout asked for', async () => {
+  it('refuses an unknown layout or maxK for a build, and builds the layout and k asked for', async () => {
     const up = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
     const { version } = (await up.json()) as { version: number };
     await expectRefused(() => adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${version}/build?layout=hexagons`), 400, 'invalid_layout', 'layout');
+    for (const maxK of ['0', '9', '2.5', 'three']) {
+      await expectRefused(() => adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${version}/build?maxK=${maxK}`), 400, 'invalid_max_k', 'maxK');
+    }
+    const forThree = await adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${version}/build?maxK=3`);
+    expect(forThree.status).toBe(200);
+    expect(((await forThree.json()) as { maxK: number }).maxK).toBe(3);
     for (const [layout, kind] of [['grid', 'grid'], ['adaptive', 'kd']] as const) {
       const next = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
       const n = ((await next.json()) as { version: number }).version;

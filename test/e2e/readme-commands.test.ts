@@ -136,6 +136,22 @@ describe('README commands', () => {
     expect(usage.totals.queries).toBe(usage.queries);
   });
 
+  it('`nearveil query --details` prints the stored record of the nearest demo site, every column', () => {
+    const table = parseSiteTable(harrowValeCsv());
+    const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.62', '--lon', '-111.42', '--details', '--json']);
+    expect(run.code, run.stderr).toBe(0);
+    const out = JSON.parse(run.stdout) as { results: Array<{ id: string; name: string; record: unknown }>; cost: { details: { queries: number; sealedBytes: number } } };
+    const stored = table.sites.find((s) => s.id === out.results[0]!.id)!;
+    expect(out.results[0]!.record).toEqual(stored);
+    expect(out.results[0]!.name).toBe(stored.name);
+    expect(out.cost.details.queries).toBe(1);
+    // The sealed file is kept in the client's home: a second run downloads nothing.
+    const again = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.3', '--lon', '-111.8', '--details']);
+    expect(again.code, again.stderr).toBe(0);
+    expect(again.stdout).toMatch(/phone: "\+1 406 555 01\d\d"/);
+    expect(again.stdout).toMatch(/sealed file kept from before/);
+  });
+
   it('gives clear messages for bad input', () => {
     const lat = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '123', '--lon', '0']);
     expect(lat.code).toBe(2);

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { main } from '../../sdk/cli/main.ts';
-import { degrees, parseCommand } from '../../sdk/cli/options.ts';
+import { degrees, integerFlag, parseCommand } from '../../sdk/cli/options.ts';
 
 /** Runs the CLI in-process and collects what it prints. */
 async function run(argv: string[]) {
@@ -35,6 +35,15 @@ describe('nearveil command line', () => {
     expect(await run(['query', '--dataset', 'x', '--lat', '45', '--lon', '-111', '--colour'])).toMatchObject({ code: 2, err: expect.stringMatching(/Unknown option '--colour'/) });
     expect(await run(['import', '--dataset', 'x'])).toMatchObject({ code: 2, err: 'nearveil: import: expected one FILE, got none' });
     expect(await run(['import', 'a.csv', '--dataset', 'Bad Slug'])).toMatchObject({ code: 2, err: expect.stringMatching(/--dataset: use 1-63 lowercase/) });
+  });
+
+  it('checks --k and --max-k: a whole number from 1 to 8, named in the message', async () => {
+    expect(integerFlag(undefined, '--k', 1, 8, 1)).toBe(1);
+    expect(integerFlag('8', '--max-k', 1, 8, 1)).toBe(8);
+    for (const bad of ['0', '9', '2.5', 'three', '-1', '']) expect(() => integerFlag(bad, '--k', 1, 8, 1)).toThrow(`--k: expected a whole number from 1 to 8, got "${bad}"`);
+    expect(await run(['query', '--dataset', 'x', '--lat', '45', '--lon', '-111', '--k', '9'])).toMatchObject({ code: 2, err: expect.stringMatching(/--k: expected a whole number from 1 to 8, got "9"/) });
+    expect(await run(['import', 'a.csv', '--dataset', 'x', '--max-k', '0'])).toMatchObject({ code: 2, err: expect.stringMatching(/--max-k: expected a whole number from 1 to 8, got "0"/) });
+    expect(await run(['plan', 'a.csv', '--max-k', 'x'])).toMatchObject({ code: 2, err: expect.stringMatching(/--max-k: expected a whole number/) });
   });
 
   it('prints help listing both commands', async () => {

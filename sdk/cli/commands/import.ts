@@ -2,14 +2,16 @@ import { readFileSync, statSync } from 'node:fs';
 import { connectAdmin } from '../../admin.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
-import { connectionOptions, parseCommand, requireString, resolveConnection } from '../options.ts';
+import { MAX_K } from '../../../core/geo/manifest.ts';
+import { connectionOptions, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 import { layoutOption } from './plan.ts';
 
-export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive|veiled] [--publish] [--json]
+export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive|veiled] [--max-k K] [--publish] [--json]
   Uploads a site table (CSV with a header; columns id, lat, lon required, name optional, every
   other column a detail) as a new version of the dataset, builds its cell matrix and, with
   --publish, makes it the active version. The dataset is created if it does not exist.
   --layout veiled publishes only a coarse grid (see \`nearveil plan\`); queries then take two rounds.
+  --max-k K   build for up to the K nearest sites (1 to 8, default 1; veiled serves 1 only); lists grow with K
   --endpoint URL, --token TOKEN   override the dev credentials (TOKEN is the tenant admin token)`;
 
 export async function importCommand(args: string[], print: (line: string) => void): Promise<void> {
@@ -19,10 +21,12 @@ export async function importCommand(args: string[], print: (line: string) => voi
     name: { type: 'string' },
     publish: { type: 'boolean', default: false },
     layout: { type: 'string', default: 'auto' },
+    'max-k': { type: 'string' },
   });
   if (values.help) return print(IMPORT_HELP);
   if (positionals.length !== 1) throw new CliError(`import: expected one FILE, got ${positionals.length === 0 ? 'none' : positionals.join(' ')}`);
   const file = positionals[0]!;
+  const maxK = integerFlag(values['max-k'], '--max-k', 1, MAX_K, 1);
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to add a version to');
   const slug = SlugSchema.safeParse(dataset);
   if (!slug.success) throw new CliError(`--dataset: ${slug.error.issues[0]?.message}, got "${dataset}"`);
@@ -38,7 +42,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
   await admin.ensureDataset(dataset, values.name);
   const uploaded = await admin.uploadSiteTable(dataset, new Uint8Array(csv));
-  const built = await admin.build(dataset, uploaded.version, layoutOption(values.layout));
+  const built = await admin.build(dataset, uploaded.version, layoutOption(values.layout), maxK);
   const published = values.publish ? await admin.publish(dataset, uploaded.version) : null;
   if (values.json) {
     print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, matrix: built.matrix }));

@@ -3,28 +3,31 @@ import { buildVersion, type BuildResult } from '../../../core/build/build-versio
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../../core/build/choose-layout.ts';
 import { LAYOUT_DISCLOSURE, LAYOUT_FLAG } from '../../../core/build/layout-disclosure.ts';
 import { COST_MODEL } from '../../../core/build/cost-model.ts';
-import type { PlanRecord } from '../../../core/geo/manifest.ts';
+import { MAX_K, type PlanRecord } from '../../../core/geo/manifest.ts';
 import { parseSiteTable } from '../../../core/geo/site-table.ts';
 import { CliError } from '../cli-error.ts';
-import { parseCommand } from '../options.ts';
+import { integerFlag, parseCommand } from '../options.ts';
 
-export const PLAN_HELP = `nearveil plan FILE [--layout auto|grid|adaptive|veiled] [--json]
+export const PLAN_HELP = `nearveil plan FILE [--layout auto|grid|adaptive|veiled] [--max-k K] [--json]
   Builds the site table locally, without any server, and prints what a query would cost: the
   layout chosen and every layout weighed (grid, adaptive and veiled, each with what it
   discloses), the matrix shape, bytes each way, the server's products (plain and with the chosen
   answer plan) and the modelled seconds per query. --layout grid discloses only a box around the
   sites; adaptive discloses where they are dense; veiled only a coarse grid, for a second private
-  round per query. auto picks the cheaper of grid and adaptive, never veiled.`;
+  round per query. auto picks the cheaper of grid and adaptive, never veiled. --max-k K builds for the K nearest
+  (1 to 8), and prints a histogram of candidate list lengths.`;
 
 export async function planCommand(args: string[], print: (line: string) => void): Promise<void> {
   const { values, positionals } = parseCommand('plan', args, {
     json: { type: 'boolean', default: false },
     layout: { type: 'string', default: 'auto' },
+    'max-k': { type: 'string' },
     help: { type: 'boolean', short: 'h', default: false },
   });
   if (values.help) return print(PLAN_HELP);
   if (positionals.length !== 1) throw new CliError(`plan: expected one FILE, got ${positionals.length === 0 ? 'none' : positionals.join(' ')}`);
   const file = positionals[0]!;
+  const maxK = integerFlag(values['max-k'], '--max-k', 1, MAX_K, 1);
   let text: string;
   try {
     text = readFileSync(file, 'utf8');
@@ -32,16 +35,16 @@ export async function planCommand(args: string[], print: (line: string) => void)
     throw new CliError(`cannot read ${file}: ${err instanceof Error ? err.message : String(err)}`);
   }
   // Every kind is weighed, so the cost of each disclosure shows side by side.
-  const built = await buildVersion(parseSiteTable(text), { dataset: 'plan', version: 1, layout: layoutOption(values.layout), weighAll: true });
+  const built = await buildVersion(parseSiteTable(text), { dataset: 'plan', version: 1, layout: layoutOption(values.layout), weighAll: true, maxK });
   const m = built.manifest;
   const chosen = built.layoutsTried.find((g) => g.chosen)!;
   if (values.json) {
-    print(JSON.stringify({ siteCount: m.siteCount, layout: m.layout, record: m.record, matrix: m.matrix, ...(m.partition ? { partition: m.partition } : {}), buildMs: built.stats.buildMs, layoutsTried: built.layoutsTried, costModel: COST_MODEL }));
+    print(JSON.stringify({ siteCount: m.siteCount, maxK: m.maxK, listLengths: built.stats.listLengths, layout: m.layout, record: m.record, matrix: m.matrix, ...(m.partition ? { partition: m.partition } : {}), buildMs: built.stats.buildMs, layoutsTried: built.layoutsTried, costModel: COST_MODEL }));
     return;
   }
   const kib = (b: number) => `${(b / 1024).toFixed(0)} KiB`;
   const lines = [
-    `${m.siteCount} sites, built in ${(built.stats.buildMs / 1000).toFixed(2)} s (nothing uploaded).`,
+    `${m.siteCount} sites, built for the ${m.maxK === 1 ? 'nearest site' : `${m.maxK} nearest sites`} in ${(built.stats.buildMs / 1000).toFixed(2)} s (nothing uploaded).`,
     `Layout: ${chosen.label} (${built.stats.regions} regions); candidate lists padded to ${m.record.slotsPerRegion} slots of ${m.record.slotBits} bits (mean list ${built.stats.meanList.toFixed(1)}).`,
     `Discloses: ${LAYOUT_DISCLOSURE[m.layout.kind]}.`,
     ...(m.partition
@@ -61,6 +64,9 @@ export async function planCommand(args: string[], print: (line: string) => void)
       `${g.chosen ? '*' : g.eligible ? ' ' : '-'} ${g.label.padEnd(22)} ${String(g.regions).padStart(7)}  ${String(g.maxList).padStart(4)}   ${shape(g).padEnd(27)}  ${kib(g.cost.bytesUp).padStart(8)} ${kib(g.cost.bytesDown).padStart(8)}  ${String(g.cost.products).padStart(9)}   ${g.cost.seconds.total.toFixed(2)}`,
     ),
     '',
+    'Candidate list lengths (sites per region, before padding):',
+    ...histogram(built.stats.listLengths),
+    '',
     'What each layout discloses in its public manifest:',
     ...(['grid', 'kd', 'veiled'] as const).map((kind) => `  ${LAYOUT_FLAG[kind].padEnd(9)} ${LAYOUT_DISCLOSURE[kind]}.`),
     '',
@@ -74,6 +80,21 @@ export async function planCommand(args: string[], print: (line: string) => void)
 function shape(g: BuildResult['layoutsTried'][number]): string {
   const cells = `${g.cost.rows} x ${g.cost.columns}`;
   return g.rounds ? `${g.rounds.partition.rows} x ${g.rounds.partition.columns} + ${cells}` : cells;
+}
+
+/** Bars of regions per list length, lengths grouped so at most 12 lines print. */
+function histogram(counts: readonly number[]): string[] {
+  const longest = counts.length - 1;
+  const width = Math.max(1, Math.ceil((longest + 1) / 12));
+  const rows: Array<[string, number]> = [];
+  for (let from = 0; from <= longest; from += width) {
+    const to = Math.min(longest, from + width - 1);
+    let regions = 0;
+    for (let n = from; n <= to; n++) regions += counts[n] ?? 0;
+    rows.push([from === to ? `${from}` : `${from}-${to}`, regions]);
+  }
+  const most = Math.max(1, ...rows.map(([, r]) => r));
+  return rows.map(([label, r]) => `  ${label.padStart(9)} ${String(r).padStart(8)}  ${'#'.repeat(Math.round((40 * r) / most))}`);
 }
 
 function planLabel(plan: PlanRecord): string {

@@ -1,13 +1,18 @@
 import { connect, type NearestResult } from '../../client.ts';
 import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
 import { loadOrCreateKeyPair } from '../key-store.ts';
-import { connectionOptions, degrees, parseCommand, requireString, resolveConnection } from '../options.ts';
+import { MAX_K } from '../../../core/geo/manifest.ts';
+import { diskSealedCache } from '../sealed-store.ts';
+import { connectionOptions, degrees, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 
-export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--json]
+export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--k K] [--details] [--json]
   Finds the exact nearest site through the private protocol: the server answers an encrypted
   column query and never learns the point.
   --dataset SLUG     dataset to ask (the demo dataset is named in .nearveil/dev-credentials.json)
   --lat, --lon DEG   the point, in decimal degrees (WGS 84)
+  --k K              the K nearest sites, nearest first (1 to the dataset's build maxK; default 1)
+  --details          also fetch the site's full record (every column) in a second private round;
+                     the version's sealed file is downloaded once and kept in .nearveil/sealed/
   --json             print one JSON object
   --endpoint URL, --api-key KEY   override the dev credentials`;
 
@@ -17,15 +22,19 @@ export async function queryCommand(args: string[], print: (line: string) => void
     dataset: { type: 'string' },
     lat: { type: 'string' },
     lon: { type: 'string' },
+    k: { type: 'string' },
+    details: { type: 'boolean', default: false },
   });
   if (values.help) return print(QUERY_HELP);
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to ask');
   const lat = degrees(values.lat, '--lat', -90, 90);
   const lon = degrees(values.lon, '--lon', -180, 180);
+  const k = integerFlag(values.k, '--k', 1, MAX_K, 1);
   const conn = resolveConnection(values);
   const apiKey = requireString(conn.apiKey, '--api-key', 'pass one, or run `npm start` once to write dev credentials');
   const keyPair = await loadOrCreateKeyPair(conn.home, DEFAULT_MODULUS_BITS);
-  const result = await connect({ endpoint: conn.endpoint, apiKey, keyPair }).nearest(dataset, { lat, lon });
+  const client = connect({ endpoint: conn.endpoint, apiKey, keyPair, sealedCache: diskSealedCache(conn.home) });
+  const result = await client.nearest(dataset, { lat, lon }, { k, details: values.details });
   print(values.json ? JSON.stringify(jsonView(result)) : textView(result));
 }
 
@@ -33,21 +42,39 @@ function jsonView(r: NearestResult) {
   return {
     dataset: r.dataset,
     version: r.version,
-    results: r.results.map(({ id, name, lat, lon, distanceMeters }) => ({ id, name, lat: round(lat, 6), lon: round(lon, 6), distanceMeters: round(distanceMeters, 1) })),
+    results: r.results.map(({ id, name, lat, lon, distanceMeters, record }) => ({
+      id,
+      name,
+      lat: round(lat, 6),
+      lon: round(lon, 6),
+      distanceMeters: round(distanceMeters, 1),
+      ...(record ? { record } : {}),
+    })),
     cost: r.cost,
   };
 }
 
 function textView(r: NearestResult): string {
   const c = r.cost;
-  const lines = [`Nearest site in ${r.dataset} (version ${r.version}):`];
-  for (const s of r.results) {
-    lines.push(`  ${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
+  const lines = [r.results.length === 1 ? `Nearest site in ${r.dataset} (version ${r.version}):` : `${r.results.length} nearest sites in ${r.dataset} (version ${r.version}), nearest first:`];
+  for (const [i, s] of r.results.entries()) {
+    lines.push(`  ${r.results.length === 1 ? '' : `${i + 1}. `}${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
+    if (s.record) {
+      lines.push(`    lat, lon: ${s.record.lat}, ${s.record.lon} (as stored)`);
+      for (const [column, value] of Object.entries(s.record.details)) lines.push(`    ${column}: ${JSON.stringify(value)}`);
+    }
   }
   lines.push(
     `Cost: ${c.modulusBits}-bit key, ${c.partition ? `two rounds (partition matrix ${c.partition.rows} x ${c.partition.columns}, then cell matrix` : 'matrix'} ` +
       `${c.rows} x ${c.columns}${c.partition ? ')' : ''}, ${kib(c.bytesUp)} up, ${kib(c.bytesDown)} down, ` +
       `server ${c.serverMs === null ? 'n/a' : c.serverMs.toFixed(0) + ' ms'}, client ${c.clientMs.toFixed(0)} ms`,
+    ...(c.details
+      ? [
+          `Details: ${c.details.queries} private ${c.details.queries === 1 ? 'query' : 'queries'}, ${kib(c.details.bytesUp)} up, ${kib(c.details.bytesDown)} down, ` +
+            `server ${c.details.serverMs === null ? 'n/a' : c.details.serverMs.toFixed(0) + ' ms'}, client ${c.details.clientMs.toFixed(0)} ms; ` +
+            (c.details.sealedBytes > 0 ? `sealed file ${kib(c.details.sealedBytes)} downloaded (once per version)` : 'sealed file kept from before'),
+        ]
+      : []),
     'Straight-line distance, not travel time. Data can be out of date. In an emergency call your local emergency number.',
   );
   return lines.join('\n');

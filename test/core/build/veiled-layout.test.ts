@@ -202,7 +202,7 @@ describe('veiled layout: the public manifest', () => {
     'partition.rows', 'partition.columns', 'partition.cellsPerColumn', 'partition.ones',
     ...['matrix', 'partition'].flatMap((m) => [`${m}.plan.kind`, `${m}.plan.products`, `${m}.plan.plainProducts`, `${m}.plan.rules`, `${m}.plan.blockColumns`, `${m}.plan.weighed[].plan`, `${m}.plan.weighed[].products`]),
   ];
-  const NOT_POSITIONAL = ['format', 'formatVersion', 'dataset', 'version', 'siteCount', 'modulusBits[]', 'siteIds[]', 'contentHash', 'partition.contentHash'];
+  const NOT_POSITIONAL = ['format', 'formatVersion', 'dataset', 'version', 'siteCount', 'maxK', 'modulusBits[]', 'siteIds[]', 'contentHash', 'partition.contentHash'];
 
   /** Invented: 400 sites in one whole-degree box, either in two tight clusters or spread evenly. */
   function arrangement(clustered: boolean): SiteTable {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
 import { unitVector } from '../../../core/geo/distance.ts';
-import { buildUnitKdTree, nearestChord2, pointsWithin } from '../../../core/geo/kd-tree.ts';
+import { buildUnitKdTree, kthNearestChord2, nearestChord2, pointsWithin } from '../../../core/geo/kd-tree.ts';
 
 // Reference: a linear scan over all points (slow, obviously correct).
 const point = fc.tuple(fc.double({ min: -90, max: 90, noNaN: true }), fc.double({ min: -180, max: 180, noNaN: true }));
@@ -16,6 +16,9 @@ describe('unit-vector kd-tree', () => {
         const [x, y, z] = unitVector(q[0], q[1]);
         const d2 = withDupes.map((_, i) => (xyz[3 * i]! - x) ** 2 + (xyz[3 * i + 1]! - y) ** 2 + (xyz[3 * i + 2]! - z) ** 2);
         expect(nearestChord2(tree, x, y, z)).toBe(Math.min(...d2));
+        // k-th nearest: the k-th smallest of the scan, Infinity beyond the point count.
+        const sorted = d2.slice().sort((a, b) => a - b);
+        for (const k of [1, 2, 3, 8]) expect(kthNearestChord2(tree, x, y, z, k)).toBe(sorted[k - 1] ?? Infinity);
         const inside = pointsWithin(tree, x, y, z, r2, []).sort((a, b) => a - b);
         expect(inside).toEqual(d2.flatMap((d, i) => (d <= r2 ? [i] : [])));
         const capped = pointsWithin(tree, x, y, z, r2, [], 2);
@@ -23,5 +26,11 @@ describe('unit-vector kd-tree', () => {
       }),
       { numRuns: 300 },
     );
+  });
+
+  it('refuses a k outside 1..8', () => {
+    const tree = buildUnitKdTree(Float64Array.from(unitVector(0, 0)));
+    expect(() => kthNearestChord2(tree, 1, 0, 0, 0)).toThrow(RangeError);
+    expect(() => kthNearestChord2(tree, 1, 0, 0, 9)).toThrow(RangeError);
   });
 });

@@ -12,6 +12,7 @@ function manifestFor(siteCount: number, slotsPerRegion: number, regionsPerColumn
   const record = recordLayout(siteCount, slotsPerRegion);
   return {
     format: 'nearveil-manifest',
+    maxK: 1,
     formatVersion: 1,
     dataset: 'demo-islands',
     version: 1,

@@ -1,0 +1,82 @@
+import type { Context } from 'hono';
+import type { PlanRecord } from '../../core/geo/manifest.ts';
+import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../../core/pir/fan-out.ts';
+import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
+import { answerWithPlan } from '../../core/pir/planned-answer.ts';
+import { validateQuery } from '../../core/pir/validate.ts';
+import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import type { Database } from '../db/client.ts';
+import type { AppBindings } from '../env.ts';
+import { ApiError } from '../http/api-error.ts';
+import { readLimitedBytes } from '../http/body-limit.ts';
+import { secondsToNextMonth, utcMonth } from '../metering/calendar.ts';
+import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
+import { recordAnsweredQuery } from '../metering/record-usage.ts';
+import { answerByParts } from './fanned-answer.ts';
+import { productEngine } from './product-engine.ts';
+import { answerPlanFor, loadMatrix } from './version-cache.ts';
+
+/** A bit matrix a version answers column queries on: its cell matrix or its details matrix. */
+export interface AnswerTarget {
+  matrixKey: string;
+  contentHash: string;
+  columns: number;
+  plan: PlanRecord;
+  /** Names the step in Server-Timing: "answer" (locate round) or "details". */
+  label: string;
+}
+
+/**
+ * Reads, checks and answers one PIR query on `target`, takes a quota slot, meters it and returns
+ * the answer in the wire format (core/pir/WIRE.md). Shared by the locate and details rounds: to
+ * the server both are one column of a bit matrix, and both count as one query.
+ */
+export async function answerColumnQuery(
+  c: Context<AppBindings>,
+  db: Database,
+  metered: { datasetId: string; version: number },
+  target: AnswerTarget,
+): Promise<Response> {
+  const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), target.columns);
+  // The exact size a query on this matrix can have, checked as the body streams in.
+  const body = await readLimitedBytes(c.req.raw, largest);
+  const started = performance.now();
+  const { n, values } = decodeQuery(body);
+  validateQuery(n, values, target.columns);
+  // The quota slot is taken only for a well-formed query, and given back if no answer goes out.
+  const now = new Date();
+  const month = utcMonth(now);
+  if (!(await takeQuotaSlot(db, c.var.credentialId, month, c.var.monthlyQuota))) {
+    const retryAfter = secondsToNextMonth(now);
+    throw new ApiError(429, 'quota_exceeded', `this API key has used its ${c.var.monthlyQuota} queries for ${month}; the quota renews in ${retryAfter} s (next UTC month)`, 'authorization', {
+      'Retry-After': String(retryAfter),
+    });
+  }
+  let answer: Uint8Array;
+  let multiplications: number;
+  let serverMs: number;
+  try {
+    const matrix = await loadMatrix(c.env, target.matrixKey);
+    const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
+    const parts = splitColumns(target.columns, target.plan.products, perPart);
+    const answered =
+      parts.length > 1 && c.env.PARTS
+        ? await answerByParts(matrix, target.matrixKey, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
+        : // The plan the build chose for this matrix (recorded in its manifest).
+          answerWithPlan(matrix, values, answerPlanFor(target.plan, target.contentHash, matrix), productEngine(n));
+    multiplications = answered.products;
+    answer = encodeAnswer((n.toString(2).length + 7) >> 3, answered.rows);
+    serverMs = performance.now() - started;
+    // Counted before the answer goes out: every answer a client receives is in the usage.
+    await recordAnsweredQuery(db, { credentialId: c.var.credentialId, ...metered, bytesIn: body.length, bytesOut: answer.length, multiplications }, now);
+  } catch (err) {
+    await releaseQuotaSlot(db, c.var.credentialId, month).catch((e: unknown) => console.error('nearveil: quota slot not released', e));
+    throw err;
+  }
+  return c.body(answer.buffer as ArrayBuffer, 200, {
+    'Content-Type': 'application/octet-stream',
+    'Server-Timing': `${target.label};dur=${serverMs.toFixed(1)};desc="PIR answer"`,
+    'X-Nearveil-Multiplications': String(multiplications),
+    'Cache-Control': 'no-store',
+  });
+}

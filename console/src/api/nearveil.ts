@@ -1,0 +1,81 @@
+import type { Manifest } from '../../../core/geo/manifest.ts';
+import type { ApiClient } from './client.ts';
+
+/** The admin routes the console uses, typed. Optional fields arrive with newer servers. */
+export interface DatasetInfo {
+  slug: string;
+  name: string;
+  activeVersion: number | null;
+}
+
+export interface VersionInfo {
+  version: number;
+  state: string;
+  siteCount: number;
+  contentHash: string | null;
+  error: string | null;
+  createdAt: string;
+  builtAt: string | null;
+  publishedAt: string | null;
+  /** Who uploaded it (servers with accounts). */
+  author?: string | null;
+  createdBy?: string | null;
+  progress?: { stage: string; percent: number } | null;
+}
+
+export interface KeyInfo {
+  id: string;
+  label: string;
+  createdAt: string;
+  revokedAt: string | null;
+  datasets?: string[] | null;
+  monthlyQuota?: number | null;
+  usedThisMonth?: number;
+}
+
+export interface UsageDay {
+  day: string;
+  queries: number;
+  rejected: number;
+  bytesIn: number;
+  bytesOut: number;
+  multiplications: number;
+}
+
+export interface Usage {
+  month: string;
+  totals: Omit<UsageDay, 'day'>;
+  days: UsageDay[];
+}
+
+const ds = (slug: string) => `/v1/admin/datasets/${encodeURIComponent(slug)}`;
+
+export function nearveilAdmin(client: ApiClient) {
+  return {
+    datasets: async () => (await client.json<{ datasets: DatasetInfo[] }>('GET', '/v1/admin/datasets')).datasets,
+    createDataset: (slug: string, name?: string) => client.json<DatasetInfo>('POST', '/v1/admin/datasets', { slug, ...(name ? { name } : {}) }),
+    versions: (slug: string) => client.json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `${ds(slug)}/versions`),
+    version: (slug: string, version: number) => client.json<VersionInfo>('GET', `${ds(slug)}/versions/${version}`),
+    upload: async (slug: string, csv: string) =>
+      (await (await client.request('POST', `${ds(slug)}/versions`, { text: csv, contentType: 'text/csv; charset=utf-8' })).json()) as VersionInfo,
+    build: async (slug: string, version: number) => {
+      const response = await client.request('POST', `${ds(slug)}/versions/${version}/build`);
+      return { queued: response.status === 202, body: (await response.json()) as VersionInfo };
+    },
+    publish: (slug: string, version: number) =>
+      client.json<{ activeVersion: number; previousVersion: number | null }>('POST', `${ds(slug)}/versions/${version}/publish`),
+    rollback: (slug: string, toVersion: number) => client.json<{ activeVersion: number }>('POST', `${ds(slug)}/rollback`, { toVersion }),
+    table: (slug: string, version: number) => client.text(`${ds(slug)}/versions/${version}/table`),
+    manifest: (slug: string, version: number) => client.json<Manifest>('GET', `${ds(slug)}/versions/${version}/manifest`),
+    keys: async () => (await client.json<{ keys: KeyInfo[] }>('GET', '/v1/admin/keys')).keys,
+    createKey: (body: { label: string; datasets?: string[]; monthlyQuota?: number }) =>
+      client.json<KeyInfo & { secret?: string; apiKey?: string }>('POST', '/v1/admin/keys', body),
+    revokeKey: (id: string) => client.json<{ id: string; revokedAt: string }>('POST', `/v1/admin/keys/${encodeURIComponent(id)}/revoke`),
+    usage: (slug: string | null, month: string) =>
+      client.json<Usage>('GET', `/v1/admin/usage?month=${encodeURIComponent(month)}${slug ? `&dataset=${encodeURIComponent(slug)}` : ''}`),
+    statement: (month: string, format: 'json' | 'csv') =>
+      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}${format === 'csv' ? '?format=csv' : ''}`),
+  };
+}
+
+export type NearveilAdmin = ReturnType<typeof nearveilAdmin>;

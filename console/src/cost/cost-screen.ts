@@ -1,0 +1,95 @@
+import type { ConsoleContext, Screen } from '../ui/context.ts';
+import { datasetPicker } from '../ui/dataset-picker.ts';
+import { bytes, errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { currentMonth, tariffFromStatement, type Tariff } from './tariff.ts';
+import { queryCost } from './query-cost.ts';
+
+/** What one query on a built version costs: shape, bytes, server work, exposure and price. */
+export function costScreen(ctx: ConsoleContext): Screen {
+  const status = h('div', { class: 'status', role: 'status' });
+  const say = (text: string, tone: 'plain' | 'good' | 'bad' = 'plain') => setStatus(status, text, tone);
+  const picker = datasetPicker(ctx, 'cost-dataset', () => void load());
+  const versionSelect = h('select', { id: 'cost-version' }) as HTMLSelectElement;
+  versionSelect.addEventListener('change', () => void render());
+  const out = h('div', { id: 'cost-out' });
+  const element = h(
+    'section',
+    { 'aria-label': 'Cost' },
+    h('div', { class: 'toolbar' }, picker.element, h('label', { for: 'cost-version' }, 'Version ', versionSelect)),
+    status,
+    out,
+  );
+
+  async function load(): Promise<void> {
+    const slug = ctx.dataset;
+    if (!slug) return say('No dataset yet');
+    try {
+      const { versions, activeVersion } = await ctx.api.versions(slug);
+      const built = versions.filter((v) => v.state === 'ready' || v.state === 'active');
+      versionSelect.replaceChildren(...built.map((v) => h('option', { value: String(v.version) }, `v${v.version}${v.version === activeVersion ? ' (live)' : ''}`)));
+      if (built.length === 0) {
+        out.replaceChildren();
+        return say(`${slug} has no built version yet`);
+      }
+      versionSelect.value = String(activeVersion ?? built[0]!.version);
+      await render();
+    } catch (err) {
+      say(errorText(err), 'bad');
+    }
+  }
+
+  async function render(): Promise<void> {
+    const slug = ctx.dataset;
+    const version = Number(versionSelect.value);
+    if (!slug || !version) return;
+    try {
+      const manifest = await ctx.api.manifest(slug, version);
+      const cost = queryCost(manifest);
+      let tariff: Tariff | null = null;
+      let tariffNote = '';
+      try {
+        tariff = tariffFromStatement(await (await ctx.api.statement(currentMonth(), 'json')).json());
+        if (!tariff) tariffNote = 'The statement names no tariff for this tenant.';
+      } catch (err) {
+        tariffNote = `No tariff available (${errorText(err)}).`;
+      }
+      const rows: Array<[string, string]> = [
+        ['Matrix shape', `${fmt.format(cost.rows)} rows × ${fmt.format(cost.columns)} columns (${fmt.format(cost.ones)} ones)`],
+        ...cost.bytes.map((b): [string, string] => [`Bytes per query, ${b.modulusBits}-bit key`, `${bytes(b.up)} up, ${bytes(b.down)} down (${bytes(b.up + b.down)} in all)`]),
+        ['Server work per query', `${fmt.format(cost.products)} modular products (answer plan: ${cost.plan}; plain would be ${fmt.format(cost.plainProducts)})`],
+        ['Rows the app decodes', fmt.format(cost.decodedRows)],
+        ['Queries that would read the whole matrix', `${fmt.format(cost.queriesForWholeMatrix)} (one per column: each query reveals one column, never more)`],
+      ];
+      if (tariff) {
+        const perQuery = tariff.perQuery + (tariff.perMegabyte * (cost.bytes[0]!.up + cost.bytes[0]!.down)) / 1e6 + tariff.perMillionProducts * (cost.products / 1e6);
+        rows.push(['Price per query at your tariff', `${tariff.currency} ${perQuery.toFixed(6)}`]);
+        rows.push(['Price of reading the whole matrix', `${tariff.currency} ${(perQuery * cost.queriesForWholeMatrix).toFixed(2)}`]);
+      }
+      out.replaceChildren(
+        h(
+          'div',
+          { class: 'panel' },
+          h('h2', {}, `One query on ${slug} v${version}`),
+          h('table', { class: 'plain', id: 'cost-table' }, h('tbody', {}, ...rows.map(([k, v]) => h('tr', {}, h('th', { scope: 'row' }, k), h('td', {}, v))))),
+          tariffNote ? h('p', { class: 'grid-note' }, tariffNote) : '',
+        ),
+        h(
+          'div',
+          { class: 'panel' },
+          h('h2', {}, 'What this means'),
+          h('p', {}, `An app sends one number per column and gets one number per row back, whatever point it asks about, so the server cannot tell which region it wants. Someone holding an API key could still collect your whole table with ${fmt.format(cost.queriesForWholeMatrix)} queries; quotas on keys and the price per query are what stop that.`),
+        ),
+      );
+      say(`Cost of v${version} from its manifest`);
+    } catch (err) {
+      say(errorText(err), 'bad');
+    }
+  }
+
+  return {
+    element,
+    show() {
+      void picker.refresh().then(() => load()).catch((err) => say(errorText(err), 'bad'));
+    },
+  };
+}

@@ -1,0 +1,98 @@
+import { resumeSession, signInWithToken, signOut, type Signed } from './api/client.ts';
+import { nearveilAdmin } from './api/nearveil.ts';
+import { costScreen } from './cost/cost-screen.ts';
+import { keysScreen } from './keys/keys-screen.ts';
+import { mapScreen } from './map/map-screen.ts';
+import { sheetScreen } from './sheet/sheet-screen.ts';
+import { cautionsBar } from './ui/cautions.ts';
+import type { ConsoleContext, Screen, ScreenName } from './ui/context.ts';
+import { h } from './ui/dom.ts';
+import { loginScreen } from './ui/login-screen.ts';
+import { versionsScreen } from './versions/versions-screen.ts';
+
+const root = document.getElementById('app')!;
+
+const TITLES: Record<ScreenName, string> = {
+  sheet: 'Site table',
+  versions: 'Versions',
+  map: 'Map',
+  cost: 'Cost',
+  keys: 'Keys & usage',
+};
+
+function showLogin(): void {
+  root.replaceChildren(loginScreen((signed) => showConsole(signed)));
+  (document.getElementById('login-email') as HTMLInputElement | null)?.focus();
+}
+
+function showConsole(signed: Signed): void {
+  const screens = new Map<ScreenName, Screen>();
+  const main = h('main', { id: 'main' });
+  const navButtons = new Map<ScreenName, HTMLButtonElement>();
+  const ctx: ConsoleContext = {
+    signed,
+    api: nearveilAdmin(signed.client),
+    dataset: sessionStorage.getItem('nearveil.dataset'),
+    setDataset(slug) {
+      ctx.dataset = slug;
+      if (slug) sessionStorage.setItem('nearveil.dataset', slug);
+    },
+    go,
+  };
+  const sheet = sheetScreen(ctx);
+  screens.set('sheet', sheet);
+  screens.set('versions', versionsScreen(ctx, (slug, version) => {
+    go('sheet');
+    void sheet.openVersion(slug, version);
+  }));
+  screens.set('map', mapScreen(ctx));
+  screens.set('cost', costScreen(ctx));
+  screens.set('keys', keysScreen(ctx));
+
+  function go(name: ScreenName): void {
+    for (const [n, button] of navButtons) button.setAttribute('aria-current', n === name ? 'page' : 'false');
+    const screen = screens.get(name)!;
+    main.replaceChildren(h('h1', { class: 'sr-only' }, TITLES[name]), screen.element);
+    location.hash = name;
+    screen.show();
+  }
+
+  const nav = h('nav', { 'aria-label': 'Console sections' });
+  for (const name of Object.keys(TITLES) as ScreenName[]) {
+    const button = h('button', { type: 'button', onclick: () => go(name) }, TITLES[name]) as HTMLButtonElement;
+    navButtons.set(name, button);
+    nav.append(button);
+  }
+  const who = h(
+    'span',
+    { class: 'who' },
+    `${signed.label}${signed.user?.tenant ? ` · ${signed.user.tenant.name}` : ''}${signed.user ? ` · ${signed.user.role.replace('_', ' ')}` : ''} `,
+    h('button', {
+      type: 'button',
+      onclick: async () => {
+        sessionStorage.removeItem('nearveil.token');
+        await signOut(signed);
+        showLogin();
+      },
+    }, 'Sign out'),
+  );
+  root.replaceChildren(h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), nav, who), cautionsBar(), main);
+  const wanted = location.hash.slice(1) as ScreenName;
+  go(wanted in TITLES ? wanted : 'sheet');
+}
+
+async function boot(): Promise<void> {
+  const session = await resumeSession();
+  if (session) return showConsole(session);
+  const token = sessionStorage.getItem('nearveil.token');
+  if (token) {
+    try {
+      return showConsole(await signInWithToken(token));
+    } catch {
+      sessionStorage.removeItem('nearveil.token');
+    }
+  }
+  showLogin();
+}
+
+void boot();

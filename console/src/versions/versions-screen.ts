@@ -1,0 +1,271 @@
+import { ApiFailure } from '../api/client.ts';
+import type { VersionInfo } from '../api/nearveil.ts';
+import { csvToSheet } from '../io/csv-sheet.ts';
+import type { ConsoleContext, Screen } from '../ui/context.ts';
+import { datasetPicker } from '../ui/dataset-picker.ts';
+import { errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { diffTables, type TableDiff } from './table-diff.ts';
+
+/** Rows of a diff drawn at once; the counts cover all of it. */
+const SHOWN_DIFF_ROWS = 400;
+const POLL_MS = 700;
+
+/** Versions of a dataset: state and author, build with progress, publish, roll back, compare. */
+export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, version: number) => void): Screen {
+  const status = h('div', { class: 'status', role: 'status' });
+  const say = (text: string, tone: 'plain' | 'good' | 'bad' = 'plain') => setStatus(status, text, tone);
+  const picker = datasetPicker(ctx, 'versions-dataset', () => void load());
+  const tableBody = h('tbody', {});
+  const progress = h('progress', { max: 100, value: 0, id: 'build-progress', 'aria-label': 'Build progress' }) as HTMLProgressElement;
+  const progressText = h('span', { id: 'build-stage' });
+  const progressBox = h('div', { class: 'panel', hidden: true }, h('h2', {}, 'Build'), progress, ' ', progressText);
+  const fromSelect = h('select', { id: 'diff-from' }) as HTMLSelectElement;
+  const toSelect = h('select', { id: 'diff-to' }) as HTMLSelectElement;
+  const diffOut = h('div', { id: 'diff-out' });
+  const rollbackTarget = h('select', { id: 'rollback-to' }) as HTMLSelectElement;
+  const dialog = h('dialog', { 'aria-labelledby': 'rollback-title' }) as HTMLDialogElement;
+  let versions: VersionInfo[] = [];
+  let active: number | null = null;
+
+  const element = h(
+    'section',
+    { 'aria-label': 'Versions' },
+    h('div', { class: 'toolbar' }, picker.element, h('button', { type: 'button', onclick: () => void load() }, 'Refresh')),
+    status,
+    progressBox,
+    h(
+      'div',
+      { class: 'panel' },
+      h('h2', {}, 'Versions'),
+      h(
+        'table',
+        { class: 'plain', id: 'versions-table' },
+        h('thead', {}, h('tr', {}, ...['Version', 'State', 'Sites', 'Author', 'Saved', 'Built', 'Published', 'Actions'].map((t) => h('th', { scope: 'col' }, t)))),
+        tableBody,
+      ),
+    ),
+    h(
+      'div',
+      { class: 'panel' },
+      h('h2', {}, 'Roll back'),
+      h(
+        'div',
+        { class: 'toolbar' },
+        h('label', { for: 'rollback-to' }, 'Make this version live again ', rollbackTarget),
+        h('button', { type: 'button', class: 'danger', onclick: () => confirmRollback() }, 'Roll back…'),
+      ),
+    ),
+    h(
+      'div',
+      { class: 'panel' },
+      h('h2', {}, 'Compare two versions'),
+      h(
+        'div',
+        { class: 'toolbar' },
+        h('label', { for: 'diff-from' }, 'From ', fromSelect),
+        h('label', { for: 'diff-to' }, 'to ', toSelect),
+        h('button', { type: 'button', onclick: () => void compare() }, 'Compare'),
+      ),
+      diffOut,
+    ),
+    dialog,
+  );
+
+  /** Reloads the list; `announce` false keeps the status line of the action that just ran. */
+  async function load(announce = true): Promise<void> {
+    const slug = ctx.dataset;
+    if (!slug) return say('No dataset yet: create one under Site table');
+    try {
+      const listed = await ctx.api.versions(slug);
+      versions = listed.versions;
+      active = listed.activeVersion;
+      renderTable(slug);
+      const options = () => versions.map((v) => h('option', { value: String(v.version) }, `v${v.version} · ${v.state}`));
+      fromSelect.replaceChildren(...options());
+      toSelect.replaceChildren(...options());
+      if (versions.length >= 2) {
+        fromSelect.value = String(versions[1]!.version);
+        toSelect.value = String(versions[0]!.version);
+      }
+      const published = versions.filter((v) => v.publishedAt !== null && v.version !== active && (v.state === 'ready' || v.state === 'active'));
+      rollbackTarget.replaceChildren(...published.map((v) => h('option', { value: String(v.version) }, `v${v.version} (published ${day(v.publishedAt)})`)));
+      if (published.length === 0) rollbackTarget.append(h('option', { value: '' }, 'no earlier published version'));
+      if (announce) say(`${slug}: ${versions.length} version${versions.length === 1 ? '' : 's'}${active ? `, v${active} live` : ', none live yet'}`);
+    } catch (err) {
+      say(errorText(err), 'bad');
+    }
+  }
+
+  function renderTable(slug: string): void {
+    tableBody.replaceChildren(
+      ...versions.map((v) => {
+        const actions = h('td', {});
+        if (v.state === 'draft' || v.state === 'failed') actions.append(h('button', { type: 'button', onclick: () => void build(slug, v.version) }, `Build v${v.version}`), ' ');
+        if (v.state === 'ready') actions.append(h('button', { type: 'button', class: 'primary', onclick: () => void publish(slug, v.version) }, `Publish v${v.version}`), ' ');
+        actions.append(h('button', { type: 'button', onclick: () => openInSheet(slug, v.version) }, 'Open in table'));
+        return h(
+          'tr',
+          { 'data-version': v.version },
+          h('td', {}, `v${v.version}`),
+          h('td', {}, h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state), v.error ? ` ${v.error}` : ''),
+          h('td', { class: 'num' }, fmt.format(v.siteCount)),
+          h('td', {}, v.author ?? v.createdBy ?? 'not recorded'),
+          h('td', {}, when(v.createdAt)),
+          h('td', {}, when(v.builtAt)),
+          h('td', {}, when(v.publishedAt)),
+          actions,
+        );
+      }),
+    );
+  }
+
+  async function build(slug: string, version: number): Promise<void> {
+    progressBox.hidden = false;
+    progress.removeAttribute('value');
+    progressText.textContent = `Building v${version}…`;
+    say(`Building ${slug} v${version}…`);
+    try {
+      const started = performance.now();
+      const { queued } = await ctx.api.build(slug, version);
+      // A server with a build queue answers 202 at once; follow the version until it settles.
+      const final = queued ? await follow(slug, version) : (await ctx.api.versions(slug)).versions.find((v) => v.version === version);
+      progress.value = 100;
+      const seconds = ((performance.now() - started) / 1000).toFixed(1);
+      if (final?.state === 'failed') throw new Error(final.error ?? 'the build failed');
+      progressText.textContent = `v${version} built in ${seconds} s: ready to publish`;
+      say(`Built ${slug} v${version} (${seconds} s). Publish it to make it live.`, 'good');
+    } catch (err) {
+      progressText.textContent = `v${version}: build failed`;
+      say(`Build of v${version} failed: ${errorText(err)}`, 'bad');
+    }
+    await load(false);
+  }
+
+  async function follow(slug: string, version: number): Promise<VersionInfo> {
+    for (;;) {
+      await new Promise((r) => setTimeout(r, POLL_MS));
+      const v = await ctx.api.version(slug, version);
+      if (v.progress) {
+        progress.value = v.progress.percent;
+        progressText.textContent = `${v.progress.stage} · ${Math.round(v.progress.percent)}%`;
+      }
+      if (v.state !== 'building' && v.state !== 'draft' && v.state !== 'queued') return v;
+    }
+  }
+
+  async function publish(slug: string, version: number): Promise<void> {
+    try {
+      const result = await ctx.api.publish(slug, version);
+      say(`v${result.activeVersion} of ${slug} is live${result.previousVersion ? ` (was v${result.previousVersion})` : ''}`, 'good');
+    } catch (err) {
+      say(`Publish refused: ${errorText(err)}`, 'bad');
+    }
+    await load(false);
+  }
+
+  function confirmRollback(): void {
+    const slug = ctx.dataset;
+    const to = Number(rollbackTarget.value);
+    if (!slug || !to) return say('There is no earlier published version to roll back to', 'bad');
+    const question = `Roll back ${slug} from v${active ?? '?'} (live now) to v${to}?`;
+    dialog.replaceChildren(
+      h('h2', { id: 'rollback-title' }, 'Roll back'),
+      h('p', {}, question),
+      h('p', { class: 'grid-note' }, `Apps asking for v${active ?? '?'} keep their answers for the grace period; new queries get v${to}.`),
+      h(
+        'div',
+        { class: 'toolbar' },
+        h('button', { type: 'button', class: 'danger', onclick: () => void rollback(slug, to) }, `Roll back to v${to}`),
+        h('button', { type: 'button', onclick: () => dialog.close() }, 'Cancel'),
+      ),
+    );
+    dialog.showModal();
+  }
+
+  async function rollback(slug: string, to: number): Promise<void> {
+    dialog.close();
+    const from = active;
+    try {
+      await ctx.api.rollback(slug, to);
+      say(`Rolled back ${slug} from v${from} to v${to}`, 'good');
+    } catch (err) {
+      if (err instanceof ApiFailure && err.routeMissing) {
+        // Servers without the rollback route: publishing the earlier built version is the same switch.
+        try {
+          await ctx.api.publish(slug, to);
+          say(`Rolled back ${slug} from v${from} to v${to} (by publishing v${to} again)`, 'good');
+        } catch (inner) {
+          say(`Roll back refused: ${errorText(inner)}`, 'bad');
+        }
+      } else {
+        say(`Roll back refused: ${errorText(err)}`, 'bad');
+      }
+    }
+    await load(false);
+  }
+
+  async function compare(): Promise<void> {
+    const slug = ctx.dataset;
+    const from = Number(fromSelect.value);
+    const to = Number(toSelect.value);
+    if (!slug || !from || !to) return say('Choose two versions', 'bad');
+    diffOut.replaceChildren(h('p', {}, `Comparing v${from} with v${to}…`));
+    try {
+      const [a, b] = await Promise.all([ctx.api.table(slug, from), ctx.api.table(slug, to)]);
+      renderDiff(diffTables(csvToSheet(a), csvToSheet(b)), from, to);
+    } catch (err) {
+      diffOut.replaceChildren();
+      say(`Compare failed: ${errorText(err)}`, 'bad');
+    }
+  }
+
+  function renderDiff(diff: TableDiff, from: number, to: number): void {
+    const headline = `v${from} → v${to}: ${diff.added.length} added, ${diff.removed.length} removed, ${diff.changed.length} changed, ${diff.unchanged} unchanged`;
+    const rows: HTMLElement[] = [];
+    const summary = (cells: Record<string, string>) => Object.entries(cells).map(([k, v]) => `${k}=${v}`).join(', ');
+    for (const a of diff.added) rows.push(h('tr', { class: 'diff-added' }, h('td', {}, 'added'), h('td', {}, a.id), h('td', {}, summary(a.cells))));
+    for (const r of diff.removed) rows.push(h('tr', { class: 'diff-removed' }, h('td', {}, 'removed'), h('td', {}, r.id), h('td', {}, summary(r.cells))));
+    for (const c of diff.changed) {
+      rows.push(
+        h(
+          'tr',
+          { class: 'diff-changed' },
+          h('td', {}, 'changed'),
+          h('td', {}, c.id),
+          h('td', {}, ...c.cells.flatMap((x, i) => [i > 0 ? '; ' : '', h('strong', {}, x.column), `: ${x.before || '(empty)'} → ${x.after || '(empty)'}`])),
+        ),
+      );
+    }
+    const columnsNote = [
+      diff.columnsAdded.length ? `columns added: ${diff.columnsAdded.join(', ')}` : '',
+      diff.columnsRemoved.length ? `columns removed: ${diff.columnsRemoved.join(', ')}` : '',
+    ].filter(Boolean).join(' · ');
+    diffOut.replaceChildren(
+      h('p', { id: 'diff-summary' }, headline),
+      columnsNote ? h('p', {}, columnsNote) : '',
+      h(
+        'table',
+        { class: 'plain', id: 'diff-table' },
+        h('thead', {}, h('tr', {}, h('th', { scope: 'col' }, 'Change'), h('th', { scope: 'col' }, 'Site id'), h('th', { scope: 'col' }, 'Cells'))),
+        h('tbody', {}, ...rows.slice(0, SHOWN_DIFF_ROWS)),
+      ),
+      rows.length > SHOWN_DIFF_ROWS ? h('p', {}, `… ${rows.length - SHOWN_DIFF_ROWS} more rows not shown`) : '',
+    );
+  }
+
+  return {
+    element,
+    show() {
+      void picker.refresh().then(() => load()).catch((err) => say(errorText(err), 'bad'));
+    },
+  };
+}
+
+function when(iso: string | null): string {
+  if (!iso) return '—';
+  return iso.replace('T', ' ').replace(/\.\d+Z?$|Z$/, '').slice(0, 16) + ' UTC';
+}
+
+function day(iso: string | null): string {
+  return iso ? iso.slice(0, 10) : '—';
+}
