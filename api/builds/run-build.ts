@@ -22,6 +22,8 @@ export interface BuildSummary {
   columns: number;
   ones: number;
   products: number;
+  /** k nearest the matrix serves (1 unless the build asked for more). */
+  maxK: number;
 }
 
 /**
@@ -57,7 +59,7 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   const manifestKey = blobKeys.manifest(dataset.id, version.number);
   await putBlob(env, manifestKey, JSON.stringify(built.manifest));
   const m = built.manifest.matrix;
-  const summary: BuildSummary = { layout: built.manifest.layout.kind, rows: m.rows, columns: m.columns, ones: m.ones, products: m.plan.products };
+  const summary: BuildSummary = { layout: built.manifest.layout.kind, rows: m.rows, columns: m.columns, ones: m.ones, products: m.plan.products, maxK: built.manifest.maxK };
   const done = await db
     .update(versions)
     .set({

@@ -143,6 +143,7 @@ function versionView(row: VersionRow) {
     progress: row.state === 'building' && row.progressStage !== null ? { stage: row.progressStage, percent: row.progressPercent ?? 0 } : null,
     error: row.error,
     layout: summary?.layout ?? null,
+    maxK: summary === null ? null : (summary.maxK ?? 1),
     matrix: summary === null ? null : { rows: summary.rows, columns: summary.columns, ones: summary.ones, products: summary.products },
     buildAttempts: row.buildAttempts,
     createdAt: row.createdAt,

@@ -1,7 +1,7 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { rhodeIslandZipCsv } from './open-data-sites.ts';
-import { adminRequest, createTestTenant, storedState, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, createTestTenant, storedState, waitForVersion, type TestTenant } from './tenant-fixture.ts';
 import { createTestUser, jsonRequest, sessionRequest, signIn, signInRequest, type TestSession } from './user-fixture.ts';
 
 const smallCsv = rhodeIslandZipCsv().csv.split('\n').slice(0, 20).join('\n');
@@ -115,7 +115,8 @@ describe('operator: tenants; admins: users; everyone: an audit trail of their te
   it('records who created, uploaded, built, published and made or revoked keys, per tenant', async () => {
     expect((await jsonRequest(adminA, 'POST', '/v1/admin/datasets', { slug: 'audited' })).status).toBe(201);
     expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions', { body: smallCsv, contentType: 'text/csv' })).status).toBe(201);
-    expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions/1/build')).status).toBe(200);
+    expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions/1/build')).status).toBe(202);
+    await waitForVersion(a, 'audited', 1);
     expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions/1/publish')).status).toBe(200);
     const key = (await (await adminRequest(a, 'POST', '/v1/admin/keys', JSON.stringify({ label: 'audited app' }), 'application/json')).json()) as { id: string };
     expect((await adminRequest(a, 'POST', `/v1/admin/keys/${key.id}/revoke`)).status).toBe(200);
