@@ -42,15 +42,9 @@ export interface NearestSite {
   record?: SiteRecord;
 }
 
-export interface QueryCost {
+/** A query's cost: the shape and figures of one round (as PartitionRoundCost), and the key size. */
+export interface QueryCost extends PartitionRoundCost {
   modulusBits: number;
-  rows: number;
-  columns: number;
-  matrixOnes: number;
-  bytesUp: number;
-  bytesDown: number;
-  serverMs: number | null;
-  clientMs: number;
   /**
    * Veiled layouts only: the first round (the coarse cell's record from the partition matrix).
    * bytesUp, bytesDown, serverMs and clientMs above then count both rounds; rows, columns and
