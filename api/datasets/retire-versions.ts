@@ -2,6 +2,7 @@ import { and, eq, inArray, isNotNull, lt, lte } from 'drizzle-orm';
 import { database, type Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
 import type { Env } from '../env.ts';
+import { blobKeys, getBlobText } from '../storage/blobs.ts';
 
 /** A blob written this recently is never collected: a build may be about to point a version at it. */
 const FRESH_BLOB_SECONDS = 3600;
@@ -18,6 +19,7 @@ export interface SweepReport {
  * The periodic sweep (scheduled() and after each publish): versions whose grace has passed turn
  * "retired" and their manifests and no-longer-referenced matrices are deleted; builds that
  * stopped reporting progress are marked failed. `now` is a parameter so tests can jump ahead.
+ * A retired version's details matrix and sealed file go with it; its partition matrix goes with its cell matrix.
  * Site tables are kept: they are the version's content, and a retired version can be built again.
  */
 export async function sweepVersions(env: Env, now = new Date()): Promise<SweepReport> {
@@ -29,11 +31,14 @@ export async function sweepVersions(env: Env, now = new Date()): Promise<SweepRe
     .returning();
   const deletedBlobs: string[] = [];
   for (const v of retired) {
+    // The manifest names the version's other blobs, so it is read before it goes.
+    const own = v.manifestKey ? await blobsNamedBy(env, v.manifestKey) : { perVersion: [], withMatrix: [] };
+    for (const key of own.perVersion) if (await deleteUnlessFresh(env, key, now)) deletedBlobs.push(key);
     if (v.manifestKey) {
       await env.BLOBS.delete(v.manifestKey);
       deletedBlobs.push(v.manifestKey);
     }
-    if (v.matrixKey && (await collectMatrix(env, db, v.matrixKey, now))) deletedBlobs.push(v.matrixKey);
+    if (v.matrixKey) deletedBlobs.push(...(await collectMatrix(env, db, [v.matrixKey, ...own.withMatrix], now)));
   }
   const staleBefore = new Date(now.getTime() - STALE_BUILD_SECONDS * 1000).toISOString();
   const failedBuilds = await db
@@ -45,17 +50,39 @@ export async function sweepVersions(env: Env, now = new Date()): Promise<SweepRe
 }
 
 /**
- * Deletes a content-addressed matrix once no version that can still answer or be published
- * (building, ready, active) points at it, and it was not written within the last hour. Two
- * versions with the same content share one matrix, so the last one retired frees it.
+ * The blobs a manifest names besides the cell matrix. The details matrix and sealed file are the
+ * version's own (their keys come from its per-version secret); a veiled layout's partition matrix
+ * follows from the same sites as the cell matrix, so it is shared exactly when that matrix is.
  */
-async function collectMatrix(env: Env, db: Database, key: string, now: Date): Promise<boolean> {
+async function blobsNamedBy(env: Env, manifestKey: string): Promise<{ perVersion: string[]; withMatrix: string[] }> {
+  const text = await getBlobText(env, manifestKey);
+  if (text === null) return { perVersion: [], withMatrix: [] };
+  const m = JSON.parse(text) as { details?: { sealedHash: string; matrix: { contentHash: string } }; partition?: { contentHash: string } };
+  return {
+    perVersion: m.details ? [blobKeys.matrix(m.details.matrix.contentHash), blobKeys.sealed(m.details.sealedHash)] : [],
+    withMatrix: m.partition ? [blobKeys.matrix(m.partition.contentHash)] : [],
+  };
+}
+
+/**
+ * Deletes a content-addressed cell matrix (and the blobs that go with it) once no version that can
+ * still answer or be published (building, ready, active) points at it. Two versions with the same
+ * content share one matrix, so the last one retired frees it. Returns the keys deleted.
+ */
+async function collectMatrix(env: Env, db: Database, keys: string[], now: Date): Promise<string[]> {
   const users = await db
     .select({ number: versions.number })
     .from(versions)
-    .where(and(eq(versions.matrixKey, key), inArray(versions.state, ['building', 'ready', 'active'])))
+    .where(and(eq(versions.matrixKey, keys[0]!), inArray(versions.state, ['building', 'ready', 'active'])))
     .limit(1);
-  if (users.length > 0) return false;
+  if (users.length > 0) return [];
+  const deleted: string[] = [];
+  for (const key of keys) if (await deleteUnlessFresh(env, key, now)) deleted.push(key);
+  return deleted;
+}
+
+/** Deletes a blob unless it is gone already or was written within the last hour (a build may be about to use it). */
+async function deleteUnlessFresh(env: Env, key: string, now: Date): Promise<boolean> {
   const head = await env.BLOBS.head(key);
   if (head === null) return false;
   if (now.getTime() - head.uploaded.getTime() < FRESH_BLOB_SECONDS * 1000) return false;

@@ -159,8 +159,12 @@ describe('publish and rollback switch the active version atomically; old version
     const v2stored = await findVersion(database(apiEnv), dataset, 2);
     const report = await sweepVersions(apiEnv, new Date(Date.now() + (grace + 2 * 3600) * 1000));
     expect(report.retired).toContainEqual({ datasetId: dataset.id, version: 2 });
-    expect(report.deletedBlobs).toEqual(expect.arrayContaining([v2stored.manifestKey, v2stored.matrixKey]));
+    const v2details = manifest2.details!;
+    const v2own = [`matrices/${v2details.matrix.contentHash}.nvm`, `sealed/${v2details.sealedHash}.nvs`];
+    expect(report.deletedBlobs).toEqual(expect.arrayContaining([v2stored.manifestKey, v2stored.matrixKey, ...v2own]));
     expect(await env.BLOBS.head(v2stored.matrixKey!)).toBeNull();
+    for (const key of v2own) expect(await env.BLOBS.head(key), key).toBeNull();
+    expect(await env.BLOBS.head(`sealed/${(await client.manifest('roll')).details!.sealedHash}.nvs`)).not.toBeNull();
     expect(await env.BLOBS.head(v1row.matrixKey!)).not.toBeNull();
     const gone = await appRequest(t, 'POST', '/v1/datasets/roll/versions/2/query', encodeQuery(key.n, makeQuery(key, manifest2.matrix.columns, 0)));
     expect(gone.status).toBe(410);
