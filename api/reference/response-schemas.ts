@@ -33,12 +33,58 @@ export const Version = z
     state: z.enum(VERSION_STATES),
     siteCount: z.number().int(),
     contentHash: z.string().nullable(),
-    error: z.string().nullable(),
+    progress: z.object({ stage: z.string(), percent: z.number().int() }).nullable().describe('while building: the stage and its percent'),
+    error: z.string().nullable().describe('why the last build attempt failed'),
+    layout: z.enum(['grid', 'kd', 'veiled']).nullable(),
+    maxK: z.number().int().nullable().describe('k nearest the built matrix serves'),
+    matrix: z.object({ rows: z.number().int(), columns: z.number().int(), ones: z.number().int(), products: z.number().int() }).nullable(),
+    buildAttempts: z.number().int(),
     createdAt: z.string(),
     builtAt: z.string().nullable(),
     publishedAt: z.string().nullable(),
+    servedUntil: z.string().nullable().describe('a replaced version still answers until then (grace period)'),
+    retiredAt: z.string().nullable(),
   })
   .meta({ id: 'Version' });
+
+const micros = z.number().int().describe('micro-units: 1/1,000,000 of the currency');
+
+export const Tariff = z
+  .object({
+    fromMonth: z.string().describe('first UTC month (YYYY-MM) it prices'),
+    queryMicros: micros,
+    gbMicros: micros.describe('per 10^9 bytes moved, in and out'),
+    millionMultiplicationsMicros: micros,
+    monthlyBaseMicros: micros,
+    setAt: z.string(),
+    setBy: z.string(),
+  })
+  .meta({ id: 'Tariff' });
+
+export const Statement = z
+  .object({
+    tenant: z.string(),
+    month: z.string(),
+    currency: z.string().describe('ISO 4217'),
+    amountsIn: z.string(),
+    tariff: Tariff.omit({ setAt: true, setBy: true }),
+    usage: z.object({ queries: z.number().int(), rejected: z.number().int(), bytesIn: z.number().int(), bytesOut: z.number().int(), multiplications: z.number().int() }),
+    lines: z.array(
+      z.object({
+        item: z.enum(['monthly_base', 'queries', 'transfer', 'multiplications']),
+        quantity: z.number().int(),
+        unit: z.enum(['month', 'query', 'byte', 'multiplication']),
+        unitPriceMicros: micros,
+        pricedPer: z.number().int(),
+        amountMicros: micros,
+      }),
+    ),
+    totalMicros: micros,
+    total: z.string().describe('the total in currency units, as text'),
+    days: z.array(z.object({ day: z.string() }).passthrough()),
+    final: z.boolean().describe('false while the month is still running'),
+  })
+  .meta({ id: 'Statement' });
 
 export const ApiKey = z
   .object({

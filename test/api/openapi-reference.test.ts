@@ -75,7 +75,7 @@ describe('OpenAPI 3.1 document and reference page', () => {
   });
 
   it('answers every documented route (no route_unknown), and every error it answers has a listed code', async () => {
-    const fill = (path: string) => path.replace('{dataset}', 'no-such-set').replace('{version}', '1').replace('{id}', 'no-such-id');
+    const fill = (path: string) => path.replace('{dataset}', 'no-such-set').replace('{version}', '1').replace('{id}', 'no-such-id').replace('{tenant}', 'no-such-tenant').replace('{month}', '2026-13');
     for (const [path, ops] of Object.entries(doc.paths)) {
       for (const method of Object.keys(ops)) {
         const headers: Record<string, string> = {};
@@ -83,7 +83,7 @@ describe('OpenAPI 3.1 document and reference page', () => {
         if (usesKey) headers.authorization = `Bearer ${t.apiKey}`;
         else if (path.startsWith('/v1/operator')) Object.assign(headers, { cookie: operator.cookie, 'x-nearveil-csrf': operator.csrfToken });
         else if (path.startsWith('/v1/admin')) headers.authorization = `Bearer ${t.adminToken}`;
-        const hasBody = method === 'post' || method === 'patch';
+        const hasBody = method === 'post' || method === 'put' || method === 'patch';
         if (hasBody) headers['content-type'] = 'application/json';
         // redirect: 'manual', so the redirect at / is checked itself, not the page it points to.
         const res = await worker(`${BASE}${fill(path)}`, { method: method.toUpperCase(), headers, redirect: 'manual', ...(hasBody ? { body: '{}' } : {}) });
