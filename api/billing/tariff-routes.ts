@@ -1,6 +1,7 @@
 import { eq } from 'drizzle-orm';
 import { Hono, type Context } from 'hono';
 import { z } from 'zod';
+import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
 import { tenants } from '../db/schema.ts';
@@ -45,6 +46,7 @@ export const tariffRoutes = new Hono<AppBindings>()
       throw new ApiError(400, 'invalid_month', `fromMonth: ${fromMonth} is past; statements already priced stay as they were, so a tariff starts this month (${current}) or later`, 'fromMonth');
     }
     const tariff = await setTariff(database(c.env), tenant.id, { ...body, fromMonth }, operatorLabel(c));
+    await recordAudit(c, { action: 'tariff.set', target: `tenant ${tenant.slug} from ${fromMonth}`, detail: { ...body, fromMonth }, tenantId: tenant.id });
     return c.json({ tenant: tenant.slug, currency: billingCurrency(c.env), tariff });
   })
   .get('/tenants/:tenant/tariff', async (c) => {

@@ -148,6 +148,10 @@ describe('monthly statements: tariffs applied to the daily counts', () => {
     expect(((await statement.json()) as StatementBody).totalMicros).toBe(10_000_000);
     const asOperator = await sessionRequest(operator, 'GET', `/v1/admin/statements/${month}?tenant=${slug}`);
     expect(((await asOperator.json()) as StatementBody).tenant).toBe(slug);
+    // The tenant's admins read who set their tariff; refused attempts leave no line.
+    const audit = (await (await adminRequest(tenant, 'GET', '/v1/admin/audit')).json()) as { events: Array<{ action: string; target: string; actor: { label: string } }> };
+    const tariffLines = audit.events.filter((e) => e.action === 'tariff.set');
+    expect(tariffLines.map((e) => e.target)).toEqual([`tenant ${slug} from ${month}`]);
   });
 
   it('rounds each line half up once, in exact integer arithmetic', () => {
