@@ -43,6 +43,10 @@ describe('role limits and tenant isolation on the admin routes', () => {
     await expectError(await jsonRequest(editorA, 'POST', '/v1/admin/keys', { label: 'editor key' }), 403, 'role_forbidden');
     await expectError(await sessionRequest(editorA, 'GET', '/v1/admin/keys'), 403, 'role_forbidden');
     await expectError(await sessionRequest(editorA, 'POST', `/v1/admin/keys/${keyOfB}/revoke`), 403, 'role_forbidden');
+    await expectError(await sessionRequest(editorA, 'POST', '/v1/admin/datasets/a-sites/rollback'), 403, 'role_forbidden');
+    await expectError(await sessionRequest(editorA, 'GET', '/v1/admin/statements/2026-01'), 403, 'role_forbidden');
+    await expectError(await sessionRequest(editorA, 'GET', '/v1/admin/audit'), 403, 'role_forbidden');
+    await expectError(await jsonRequest(editorA, 'PUT', `/v1/operator/tenants/${a.slug}/tariff`, { queryMicros: 0, gbMicros: 0, millionMultiplicationsMicros: 0, monthlyBaseMicros: 0 }), 403, 'role_forbidden');
     expect(await storedState()).toBe(before);
   });
 
@@ -54,7 +58,7 @@ describe('role limits and tenant isolation on the admin routes', () => {
     expect((await sessionRequest(adminA, 'POST', `/v1/admin/keys/${id}/revoke`)).status).toBe(200);
   });
 
-  it("never shows or changes tenant B's datasets, versions or keys to tenant A (session or Bearer)", async () => {
+  it("never shows or changes tenant B's datasets, versions, keys, usage, audit or statements to tenant A (session or Bearer)", async () => {
     const before = await storedState();
     for (const send of [
       (m: string, p: string) => sessionRequest(adminA, m, p),
@@ -65,12 +69,16 @@ describe('role limits and tenant isolation on the admin routes', () => {
       await expectError(await send('GET', '/v1/admin/datasets/b-sites/versions'), 404, 'dataset_unknown');
       await expectError(await send('POST', '/v1/admin/datasets/b-sites/versions/1/publish'), 404, 'dataset_unknown');
       await expectError(await send('POST', '/v1/admin/datasets/b-sites/versions/1/build'), 404, 'dataset_unknown');
+      await expectError(await send('POST', '/v1/admin/datasets/b-sites/rollback'), 404, 'dataset_unknown');
+      for (const read of ['', '/table', '/manifest']) await expectError(await send('GET', `/v1/admin/datasets/b-sites/versions/1${read}`), 404, 'dataset_unknown');
       await expectError(await send('POST', `/v1/admin/keys/${keyOfB}/revoke`), 404, 'key_unknown');
       const keys = (await (await send('GET', '/v1/admin/keys')).json()) as { keys: Array<{ id: string }> };
       expect(keys.keys.map((k) => k.id)).not.toContain(keyOfB);
       // Naming the other tenant is refused outright.
       await expectError(await send('GET', `/v1/admin/datasets?tenant=${b.slug}`), 403, 'tenant_forbidden');
       await expectError(await send('GET', `/v1/admin/keys?tenant=${b.slug}`), 403, 'tenant_forbidden');
+      for (const path of ['/v1/admin/usage', '/v1/admin/audit', '/v1/admin/statements/2026-01']) await expectError(await send('GET', `${path}?tenant=${b.slug}`), 403, 'tenant_forbidden');
+      await expectError(await send('GET', `/v1/operator/tenants/${b.slug}/tariff`), 403, 'role_forbidden');
     }
     expect(await storedState()).toBe(before);
   });
