@@ -11,7 +11,7 @@ import { connectAdmin } from '../sdk/admin.ts';
 import { NearveilError } from '../sdk/http.ts';
 import { CREDENTIALS_FILE, nearveilHome, readDevCredentials, writePrivateJson } from '../sdk/cli/dev-home.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
-import { DEMO_DATASET, ensureDemoTenant, ensureDevUsers } from './dev/seed.ts';
+import { DEMO_DATASET, ensureDemoTariff, ensureDemoTenant, ensureDevUsers } from './dev/seed.ts';
 import type { ChildProcess } from 'node:child_process';
 import { PROJECT_ROOT, startWranglerDev, stopWranglerDev, wrangler } from './dev/wrangler.ts';
 
@@ -67,6 +67,7 @@ async function start(): Promise<void> {
   const savedUsers = (readDevCredentials(home).users ?? {}) as Parameters<typeof ensureDevUsers>[1];
   const credentials = { ...ensureDemoTenant(persistTo, home, endpoint), users: await ensureDevUsers(persistTo, savedUsers) };
   writePrivateJson(credentialsPath, credentials);
+  ensureDemoTariff(persistTo);
 
   // The Worker's binding to itself is found through wrangler's dev registry. A registry of this
   // state folder's own keeps other local runs of a Worker named "nearveil" from reloading this one.

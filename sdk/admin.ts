@@ -13,12 +13,16 @@ export interface VersionInfo {
   /** draft, building, ready, active, retired or failed. */
   state: string;
   siteCount: number;
+  /** Who uploaded it: a user's email or an admin token's label (null for older versions). */
+  author: string | null;
   contentHash: string | null;
   /** While building: the stage and the percent of the whole build reached. */
   progress: { stage: string; percent: number } | null;
   error: string | null;
   layout: 'grid' | 'kd' | 'veiled' | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
+  /** k nearest the built matrix serves. */
+  maxK: number | null;
   createdAt: string;
   builtAt: string | null;
   publishedAt: string | null;

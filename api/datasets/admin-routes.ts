@@ -65,7 +65,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     encodeAllRecords(table);
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
-    const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey);
+    const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey, c.var.principal.label);
     await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: table.sites.length, bytes: bytes.length, tableKey } });
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
@@ -139,6 +139,7 @@ function versionView(row: VersionRow) {
     version: row.number,
     state: row.state,
     siteCount: row.siteCount,
+    author: row.createdBy,
     contentHash: row.contentHash,
     progress: row.state === 'building' && row.progressStage !== null ? { stage: row.progressStage, percent: row.progressPercent ?? 0 } : null,
     error: row.error,

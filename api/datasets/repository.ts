@@ -36,6 +36,7 @@ export async function insertDraftVersion(
   datasetId: string,
   siteCount: number,
   tableKey: string,
+  createdBy: string,
 ): Promise<number> {
   for (let attempt = 0; attempt < 5; attempt++) {
     const [newest] = await db
@@ -47,7 +48,7 @@ export async function insertDraftVersion(
     const number = (newest?.number ?? 0) + 1;
     const inserted = await db
       .insert(versions)
-      .values({ datasetId, number, state: 'draft', siteCount, tableKey })
+      .values({ datasetId, number, state: 'draft', siteCount, tableKey, createdBy })
       .onConflictDoNothing()
       .returning({ number: versions.number });
     if (inserted.length === 1) return number;

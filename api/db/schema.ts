@@ -94,6 +94,8 @@ export const versions = sqliteTable(
     /** A version no longer active keeps answering until then (VERSION_GRACE_SECONDS), then retires. */
     servedUntil: text('served_until'),
     retiredAt: text('retired_at'),
+    /** Who uploaded it: the user's email or the admin token's label (null for versions from before authors were kept). */
+    createdBy: text('created_by'),
   },
   (t) => [primaryKey({ columns: [t.datasetId, t.number] })],
 );

@@ -32,6 +32,7 @@ export const Version = z
     version: z.number().int(),
     state: z.enum(VERSION_STATES),
     siteCount: z.number().int(),
+    author: z.string().nullable().describe("who uploaded it: the user's email or the admin token's label"),
     contentHash: z.string().nullable(),
     progress: z.object({ stage: z.string(), percent: z.number().int() }).nullable().describe('while building: the stage and its percent'),
     error: z.string().nullable().describe('why the last build attempt failed'),

@@ -40,6 +40,24 @@ export function ensureDemoTenant(persistTo: string, home: string, endpoint: stri
   return { endpoint, tenant: DEMO_TENANT, adminToken, apiKey, demoDataset: DEMO_DATASET };
 }
 
+/**
+ * Invented demo prices (micro-units of BILLING_CURRENCY), so the console's cost screen and the
+ * monthly statement have a tariff to show. Set once, from the month of the first start; a tariff
+ * the operator set later is never touched.
+ */
+export const DEMO_TARIFF = { queryMicros: 1_500, gbMicros: 90_000, millionMultiplicationsMicros: 2_500, monthlyBaseMicros: 49_990_000 };
+
+export function ensureDemoTariff(persistTo: string, now = new Date()): void {
+  const t = DEMO_TARIFF;
+  const month = sqlText(now.toISOString().slice(0, 7));
+  localSql(
+    persistTo,
+    `INSERT INTO tariffs (tenant_id, from_month, query_micros, gb_micros, million_multiplications_micros, monthly_base_micros, set_by)
+     SELECT id, ${month}, ${t.queryMicros}, ${t.gbMicros}, ${t.millionMultiplicationsMicros}, ${t.monthlyBaseMicros}, 'demo seed'
+     FROM tenants WHERE slug = ${sqlText(DEMO_TENANT)} AND NOT EXISTS (SELECT 1 FROM tariffs WHERE tariffs.tenant_id = tenants.id)`,
+  );
+}
+
 export interface DevUser {
   email: string;
   password: string;

@@ -58,6 +58,7 @@ export async function publishDataset(t: TestTenant, slug: string, csv: string, l
 export interface VersionBody {
   version: number;
   state: string;
+  author: string | null;
   error: string | null;
   progress: { stage: string; percent: number } | null;
   layout: string | null;

@@ -116,7 +116,7 @@ describe('operator: tenants; admins: users; everyone: an audit trail of their te
     expect((await jsonRequest(adminA, 'POST', '/v1/admin/datasets', { slug: 'audited' })).status).toBe(201);
     expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions', { body: smallCsv, contentType: 'text/csv' })).status).toBe(201);
     expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions/1/build')).status).toBe(202);
-    await waitForVersion(a, 'audited', 1);
+    expect((await waitForVersion(a, 'audited', 1)).author).toBe(adminAEmail);
     expect((await sessionRequest(adminA, 'POST', '/v1/admin/datasets/audited/versions/1/publish')).status).toBe(200);
     const key = (await (await adminRequest(a, 'POST', '/v1/admin/keys', JSON.stringify({ label: 'audited app' }), 'application/json')).json()) as { id: string };
     expect((await adminRequest(a, 'POST', `/v1/admin/keys/${key.id}/revoke`)).status).toBe(200);

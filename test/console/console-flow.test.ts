@@ -9,6 +9,10 @@ import KDBush from 'kdbush';
 import type { Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { greatCircleMeters } from '../../core/geo/distance.ts';
+import { queryCost } from '../../console/src/cost/query-cost.ts';
+import { formatPrice, queryPrice } from '../../console/src/cost/tariff.ts';
+import type { Manifest } from '../../core/geo/manifest.ts';
+import { DEMO_TARIFF } from '../../scripts/dev/seed.ts';
 import { connect } from '../../sdk/client.ts';
 import { launchBrowser } from './browser.ts';
 import { fenwickSites, fenwickTsv } from './flow-data.ts';
@@ -39,6 +43,7 @@ let serverLog = '';
 let browser: Awaited<ReturnType<typeof launchBrowser>>;
 let page: Page;
 let apiKey = '';
+let adminEmail = '';
 const pageErrors: string[] = [];
 
 async function shot(name: string): Promise<void> {
@@ -137,6 +142,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     };
     apiKey = credentials.apiKey;
     const admin = credentials.users.tenantAdmin!;
+    adminEmail = admin.email;
     await page.getByLabel('Email', { exact: true }).fill(admin.email);
     await page.getByLabel('Password', { exact: true }).fill('not the password');
     await page.getByRole('button', { name: 'Sign in', exact: true }).click();
@@ -228,6 +234,8 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Publish v1' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v1 of fenwick-clinics is live/);
     await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
+    // The version names its author: the admin who saved it from the table.
+    await expect.poll(() => page.locator('tr[data-version="1"] .author').textContent(), { timeout: 90_000 }).toBe(adminEmail);
     expect(await unlabelledControls()).toEqual([]);
     await shot('08-published');
 
@@ -277,8 +285,9 @@ describe('console: the data admin flow in headless Chromium', () => {
     await expect.poll(() => dialog.textContent(), { timeout: 90_000 }).toContain('Roll back fenwick-clinics from v2 (live now) to v1?');
     await shot('10-rollback-confirm');
     await dialog.getByRole('button', { name: 'Roll back to v1' }).click();
-    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Rolled back fenwick-clinics from v2 to v1/);
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Rolled back fenwick-clinics from v2 to v1; v2 still answers apps in flight for \d+ s/);
     await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
+    await expect.poll(() => page.locator('tr[data-version="2"]').textContent(), { timeout: 90_000 }).toMatch(/ready \(answers apps in flight until .+ UTC\)/);
     await shot('11-rolled-back');
     const answer = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 });
     expect(answer.version).toBe(1);
@@ -305,10 +314,14 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Cost' }).click();
     const table = page.locator('#cost-table');
     await table.waitFor();
-    const manifest = (await (await fetch(`${BASE}/v1/datasets/${DATASET}/manifest`, { headers: { authorization: `Bearer ${apiKey}` } })).json()) as {
-      matrix: { rows: number; columns: number };
-    };
+    const manifest = (await (await fetch(`${BASE}/v1/datasets/${DATASET}/manifest`, { headers: { authorization: `Bearer ${apiKey}` } })).json()) as Manifest;
+    await expect.poll(() => table.textContent(), { timeout: 90_000 }).toContain('Price per query at your tariff');
     const text = (await table.textContent())!;
+    // The demo tenant's seeded tariff, applied to this version's bytes and metered products.
+    const cost = queryCost(manifest);
+    const price = queryPrice({ currency: 'EUR', ...DEMO_TARIFF }, cost.bytes[0]!.up + cost.bytes[0]!.down, cost.billedProducts);
+    expect(text).toContain(`Price per query at your tariff${formatPrice(price.total, 'EUR')} (query EUR 0.001500 + transfer`);
+    expect(text).toContain('Monthly baseEUR 49.99');
     expect(text).toContain(`${manifest.matrix.rows.toLocaleString('en-GB')} rows × ${manifest.matrix.columns.toLocaleString('en-GB')} columns`);
     expect(text).toContain(`Queries that would read the whole matrix${manifest.matrix.columns.toLocaleString('en-GB')} (one per column`);
     await shot('13-cost');
@@ -328,18 +341,20 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Revoke fenwick finder app' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Revoked fenwick finder app');
     await expect(connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: 45.4, lon: -111.8 })).rejects.toThrow(/revoked/);
-    const usageRoute = await fetch(`${BASE}/v1/admin/usage?month=${new Date().toISOString().slice(0, 7)}`, {
-      headers: { authorization: `Bearer ${JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')).adminToken}` },
-    });
-    if (usageRoute.status === 404) {
-      // Until the server meters per tenant through the usage route, the console says so plainly.
-      await expect.poll(() => page.locator('#usage-totals').textContent(), { timeout: 90_000 }).toBe('This server does not report usage yet.');
-    } else {
-      const usage = (await usageRoute.json()) as { totals: { queries: number } };
-      await page.getByRole('button', { name: 'Refresh usage' }).click();
-      expect(usage.totals.queries).toBeGreaterThanOrEqual(5);
-      await expect.poll(() => page.locator('#usage-queries').textContent(), { timeout: 90_000 }).toBe(usage.totals.queries.toLocaleString('en-GB'));
-    }
+    const adminToken = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')).adminToken as string;
+    const month = new Date().toISOString().slice(0, 7);
+    const usage = (await (await fetch(`${BASE}/v1/admin/usage?month=${month}`, { headers: { authorization: `Bearer ${adminToken}` } })).json()) as { totals: { queries: number } };
+    await page.getByRole('button', { name: 'Refresh usage' }).click();
+    expect(usage.totals.queries).toBeGreaterThanOrEqual(5);
+    await expect.poll(() => page.locator('#usage-queries').textContent(), { timeout: 90_000 }).toBe(usage.totals.queries.toLocaleString('en-GB'));
+    await expect.poll(() => page.locator('#statement-total').textContent(), { timeout: 90_000 }).toMatch(/^EUR \d+\.\d\d so far \(the month is still running\)$/);
+    // The statement downloads as CSV: its queries line counts what the usage report counts.
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Download statement (CSV)' }).click()]);
+    expect(download.suggestedFilename()).toBe(`nearveil-statement-${month}.csv`);
+    const csv = readFileSync((await download.path())!, 'utf8').split('\r\n');
+    expect(csv[0]).toBe('tenant,month,currency,item,quantity,unit,unit_price_micros,priced_per,amount_micros');
+    expect(csv).toContain(`demo,${month},EUR,queries,${usage.totals.queries},query,1500,1,${usage.totals.queries * 1500}`);
+    expect(csv.find((l) => l.startsWith(`demo,${month},EUR,monthly_base,`))).toBe(`demo,${month},EUR,monthly_base,1,month,49990000,1,49990000`);
     expect(await unlabelledControls()).toEqual([]);
     await shot('14-keys-usage');
     expect(pageErrors).toEqual([]);

@@ -94,5 +94,6 @@ describe('cost of one query from a manifest', () => {
     expect(cost.bytes[1]!.up).toBe(10 + 384 * (manifest.matrix.columns + 1));
     expect(cost.queriesForWholeMatrix).toBe(manifest.matrix.columns);
     expect(cost.products).toBe(manifest.matrix.plan.products + 2 * manifest.matrix.rows);
+    expect(cost.billedProducts).toBe(manifest.matrix.plan.products);
   });
 });

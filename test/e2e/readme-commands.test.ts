@@ -117,6 +117,8 @@ describe('README commands', () => {
     expect(versions.activeVersion).toBe(1);
     expect(versions.versions.map((v) => [v.version, v.state])).toEqual([[2, 'ready'], [1, 'active']]);
     expect(Date.parse(versions.versions[0]!.servedUntil!)).toBeGreaterThan(Date.now());
+    const listed = nearveil(['versions', '--dataset', 'pharmacies']);
+    expect(listed.stdout).toMatch(/v2 {2}ready, still answering until .* by dev admin token/);
     const published = nearveil(['publish', '--dataset', 'pharmacies', '--version', '2', '--json']);
     expect(published.code, published.stderr).toBe(0);
     expect(JSON.parse(published.stdout)).toMatchObject({ activeVersion: 2, previousVersion: 1 });

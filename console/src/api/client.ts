@@ -25,10 +25,6 @@ export class ApiFailure extends Error {
     super(message);
     this.name = 'ApiFailure';
   }
-  /** The server does not have this route (yet): an older or partly deployed server. */
-  get routeMissing(): boolean {
-    return this.status === 404 && this.code === 'route_unknown';
-  }
 }
 
 const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);

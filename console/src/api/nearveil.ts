@@ -1,7 +1,7 @@
 import type { Manifest } from '../../../core/geo/manifest.ts';
 import type { ApiClient } from './client.ts';
 
-/** The admin routes the console uses, typed. Optional fields arrive with newer servers. */
+/** The admin routes the console uses, typed. */
 export interface DatasetInfo {
   slug: string;
   name: string;
@@ -17,10 +17,11 @@ export interface VersionInfo {
   createdAt: string;
   builtAt: string | null;
   publishedAt: string | null;
-  /** Who uploaded it (servers with accounts). */
-  author?: string | null;
-  createdBy?: string | null;
-  progress?: { stage: string; percent: number } | null;
+  /** Who uploaded it: a user's email or an admin token's label (null for older versions). */
+  author: string | null;
+  progress: { stage: string; percent: number } | null;
+  /** A replaced version still answers until then. */
+  servedUntil: string | null;
 }
 
 export interface KeyInfo {
@@ -28,9 +29,9 @@ export interface KeyInfo {
   label: string;
   createdAt: string;
   revokedAt: string | null;
-  datasets?: string[] | null;
-  monthlyQuota?: number | null;
-  usedThisMonth?: number;
+  datasets: string[] | null;
+  monthlyQuota: number | null;
+  usedThisMonth: number;
 }
 
 export interface UsageDay {
@@ -58,18 +59,17 @@ export function nearveilAdmin(client: ApiClient) {
     version: (slug: string, version: number) => client.json<VersionInfo>('GET', `${ds(slug)}/versions/${version}`),
     upload: async (slug: string, csv: string) =>
       (await (await client.request('POST', `${ds(slug)}/versions`, { text: csv, contentType: 'text/csv; charset=utf-8' })).json()) as VersionInfo,
-    build: async (slug: string, version: number) => {
-      const response = await client.request('POST', `${ds(slug)}/versions/${version}/build`);
-      return { queued: response.status === 202, body: (await response.json()) as VersionInfo };
-    },
+    /** Queues a build (202); the version then reports its progress until it is ready or failed. */
+    build: (slug: string, version: number) => client.json<VersionInfo>('POST', `${ds(slug)}/versions/${version}/build`),
     publish: (slug: string, version: number) =>
       client.json<{ activeVersion: number; previousVersion: number | null }>('POST', `${ds(slug)}/versions/${version}/publish`),
-    rollback: (slug: string, toVersion: number) => client.json<{ activeVersion: number }>('POST', `${ds(slug)}/rollback`, { toVersion }),
+    rollback: (slug: string, toVersion: number) =>
+      client.json<{ activeVersion: number; previousVersion: number | null; graceSeconds: number }>('POST', `${ds(slug)}/rollback`, { toVersion }),
     table: (slug: string, version: number) => client.text(`${ds(slug)}/versions/${version}/table`),
     manifest: (slug: string, version: number) => client.json<Manifest>('GET', `${ds(slug)}/versions/${version}/manifest`),
     keys: async () => (await client.json<{ keys: KeyInfo[] }>('GET', '/v1/admin/keys')).keys,
     createKey: (body: { label: string; datasets?: string[]; monthlyQuota?: number }) =>
-      client.json<KeyInfo & { secret?: string; apiKey?: string }>('POST', '/v1/admin/keys', body),
+      client.json<KeyInfo & { secret: string }>('POST', '/v1/admin/keys', body),
     revokeKey: (id: string) => client.json<{ id: string; revokedAt: string }>('POST', `/v1/admin/keys/${encodeURIComponent(id)}/revoke`),
     usage: (slug: string | null, month: string) =>
       client.json<Usage>('GET', `/v1/admin/usage?month=${encodeURIComponent(month)}${slug ? `&dataset=${encodeURIComponent(slug)}` : ''}`),

@@ -1,7 +1,7 @@
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
 import { bytes, errorText, fmt, h, setStatus } from '../ui/dom.ts';
-import { currentMonth, tariffFromStatement, type Tariff } from './tariff.ts';
+import { currentMonth, formatPrice, queryPrice, tariffFromStatement, type Tariff } from './tariff.ts';
 import { queryCost } from './query-cost.ts';
 
 /** What one query on a built version costs: shape, bytes, server work, exposure and price. */
@@ -51,7 +51,7 @@ export function costScreen(ctx: ConsoleContext): Screen {
         tariff = tariffFromStatement(await (await ctx.api.statement(currentMonth(), 'json')).json());
         if (!tariff) tariffNote = 'The statement names no tariff for this tenant.';
       } catch (err) {
-        tariffNote = `No tariff available (${errorText(err)}).`;
+        tariffNote = `No price shown: ${errorText(err)}`;
       }
       const rows: Array<[string, string]> = [
         ['Matrix shape', `${fmt.format(cost.rows)} rows × ${fmt.format(cost.columns)} columns (${fmt.format(cost.ones)} ones)`],
@@ -61,9 +61,16 @@ export function costScreen(ctx: ConsoleContext): Screen {
         ['Queries that would read the whole matrix', `${fmt.format(cost.queriesForWholeMatrix)} (one per column: each query reveals one column, never more)`],
       ];
       if (tariff) {
-        const perQuery = tariff.perQuery + (tariff.perMegabyte * (cost.bytes[0]!.up + cost.bytes[0]!.down)) / 1e6 + tariff.perMillionProducts * (cost.products / 1e6);
-        rows.push(['Price per query at your tariff', `${tariff.currency} ${perQuery.toFixed(6)}`]);
-        rows.push(['Price of reading the whole matrix', `${tariff.currency} ${(perQuery * cost.queriesForWholeMatrix).toFixed(2)}`]);
+        // Priced as the monthly statement bills it: the smallest key's bytes, the metered products.
+        const moved = cost.bytes[0]!.up + cost.bytes[0]!.down;
+        const price = queryPrice(tariff, moved, cost.billedProducts);
+        const part = (m: number) => formatPrice(m, tariff!.currency);
+        rows.push([
+          'Price per query at your tariff',
+          `${part(price.total)} (query ${part(price.query)} + transfer ${part(price.transfer)} + server work ${part(price.work)}; ${cost.bytes[0]!.modulusBits}-bit key)`,
+        ]);
+        rows.push(['Price of reading the whole matrix', `${formatPrice(price.total * cost.queriesForWholeMatrix, tariff.currency, 2)} (${fmt.format(cost.queriesForWholeMatrix)} queries)`]);
+        rows.push(['Monthly base', formatPrice(tariff.monthlyBaseMicros, tariff.currency, 2)]);
       }
       out.replaceChildren(
         h(

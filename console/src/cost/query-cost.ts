@@ -10,6 +10,8 @@ export interface QueryCost {
   bytes: Array<{ modulusBits: number; up: number; down: number }>;
   /** Modular products per answer: the plan's products plus one blinding square and product per row. */
   products: number;
+  /** Products the meter counts per query (the plan's, not the blinding's): what the statement bills. */
+  billedProducts: number;
   plainProducts: number;
   /** Each query reveals one column: this many queries could read the whole matrix. */
   queriesForWholeMatrix: number;
@@ -33,6 +35,7 @@ export function queryCost(m: Manifest): QueryCost {
     plan: planName,
     bytes,
     products: plan.products + 2 * rows,
+    billedProducts: plan.products,
     plainProducts: plan.plainProducts + 2 * rows,
     queriesForWholeMatrix: columns,
     decodedRows: m.record.regionBits,

@@ -1,6 +1,5 @@
-import { ApiFailure } from '../api/client.ts';
 import type { KeyInfo } from '../api/nearveil.ts';
-import { currentMonth } from '../cost/tariff.ts';
+import { currentMonth, formatPrice } from '../cost/tariff.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { bytes, download, errorText, fmt, h, setStatus } from '../ui/dom.ts';
 import { drawUsageChart } from './usage-chart.ts';
@@ -96,17 +95,8 @@ export function keysScreen(ctx: ConsoleContext): Screen {
     const datasets = Array.from(scope.selectedOptions, (o) => o.value);
     const monthlyQuota = quota.value ? Number(quota.value) : undefined;
     try {
-      let created;
-      try {
-        created = await ctx.api.createKey({ label: label.value, ...(datasets.length ? { datasets } : {}), ...(monthlyQuota ? { monthlyQuota } : {}) });
-      } catch (err) {
-        // Servers without key scopes refuse the extra fields: say so rather than drop them silently.
-        if (err instanceof ApiFailure && err.status === 400 && (datasets.length || monthlyQuota)) {
-          throw new Error(`this server does not take dataset scopes or quotas yet (${err.message})`);
-        }
-        throw err;
-      }
-      const secret = created.secret ?? created.apiKey ?? '';
+      const created = await ctx.api.createKey({ label: label.value, ...(datasets.length ? { datasets } : {}), ...(monthlyQuota ? { monthlyQuota } : {}) });
+      const secret = created.secret;
       secretBox.replaceChildren(
         h('p', {}, `Key “${created.label}” created. Copy it now: it is shown only this once and stored only as a hash.`),
         h('p', { class: 'secret', id: 'new-key-secret' }, secret),
@@ -146,11 +136,22 @@ export function keysScreen(ctx: ConsoleContext): Screen {
           h('dt', {}, 'Rejected'), h('dd', {}, fmt.format(t.rejected)),
           h('dt', {}, 'Bytes in / out'), h('dd', {}, `${bytes(t.bytesIn)} / ${bytes(t.bytesOut)}`),
           h('dt', {}, 'Server products'), h('dd', {}, fmt.format(t.multiplications)),
+          h('dt', {}, 'Statement, all datasets'), h('dd', { id: 'statement-total' }, await statementTotal(month.value)),
         ),
       );
     } catch (err) {
       drawUsageChart(chart, month.value, []);
-      totals.replaceChildren(h('p', { class: 'grid-note' }, err instanceof ApiFailure && err.routeMissing ? 'This server does not report usage yet.' : `Usage: ${errorText(err)}`));
+      totals.replaceChildren(h('p', { class: 'grid-note' }, `Usage: ${errorText(err)}`));
+    }
+  }
+
+  /** The month's statement total at the tenant's tariff, or why there is none. */
+  async function statementTotal(forMonth: string): Promise<string> {
+    try {
+      const body = (await (await ctx.api.statement(forMonth, 'json')).json()) as { currency: string; totalMicros: number; final: boolean };
+      return `${formatPrice(body.totalMicros, body.currency, 2)}${body.final ? '' : ' so far (the month is still running)'}`;
+    } catch (err) {
+      return errorText(err);
     }
   }
 
@@ -160,7 +161,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       download(`nearveil-statement-${month.value}.${format}`, await response.text(), format === 'csv' ? 'text/csv' : 'application/json');
       say(`Downloaded the ${month.value} statement`, 'good');
     } catch (err) {
-      say(err instanceof ApiFailure && err.routeMissing ? 'This server does not issue statements yet.' : `Statement: ${errorText(err)}`, 'bad');
+      say(`Statement: ${errorText(err)}`, 'bad');
     }
   }
 

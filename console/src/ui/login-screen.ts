@@ -1,4 +1,4 @@
-import { ApiFailure, signInWithPassword, signInWithToken, type Signed } from '../api/client.ts';
+import { signInWithPassword, signInWithToken, type Signed } from '../api/client.ts';
 import { cautionsBar } from './cautions.ts';
 import { errorText, h, setStatus } from './dom.ts';
 
@@ -43,11 +43,7 @@ export function loginScreen(onSignedIn: (signed: Signed) => void): HTMLElement {
     try {
       onSignedIn(await how());
     } catch (err) {
-      const text =
-        err instanceof ApiFailure && err.routeMissing
-          ? 'This server has no user accounts yet: sign in with the admin token from .nearveil/dev-credentials.json'
-          : errorText(err);
-      setStatus(status, text, 'bad');
+      setStatus(status, errorText(err), 'bad');
     }
   }
 

@@ -1,4 +1,3 @@
-import { ApiFailure } from '../api/client.ts';
 import type { VersionInfo } from '../api/nearveil.ts';
 import { csvToSheet } from '../io/csv-sheet.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
@@ -100,16 +99,16 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     tableBody.replaceChildren(
       ...versions.map((v) => {
         const actions = h('td', {});
-        if (v.state === 'draft' || v.state === 'failed') actions.append(h('button', { type: 'button', onclick: () => void build(slug, v.version) }, `Build v${v.version}`), ' ');
+        if (v.state === 'draft' || v.state === 'failed' || v.state === 'retired') actions.append(h('button', { type: 'button', onclick: () => void build(slug, v.version) }, `Build v${v.version}`), ' ');
         if (v.state === 'ready') actions.append(h('button', { type: 'button', class: 'primary', onclick: () => void publish(slug, v.version) }, `Publish v${v.version}`), ' ');
         actions.append(h('button', { type: 'button', onclick: () => openInSheet(slug, v.version) }, 'Open in table'));
         return h(
           'tr',
           { 'data-version': v.version },
           h('td', {}, `v${v.version}`),
-          h('td', {}, h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state), v.error ? ` ${v.error}` : ''),
+          h('td', {}, h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state), v.error ? ` ${v.error}` : '', v.state === 'ready' && v.servedUntil ? ` (answers apps in flight until ${when(v.servedUntil)})` : ''),
           h('td', { class: 'num' }, fmt.format(v.siteCount)),
-          h('td', {}, v.author ?? v.createdBy ?? 'not recorded'),
+          h('td', { class: 'author' }, v.author ?? 'not recorded'),
           h('td', {}, when(v.createdAt)),
           h('td', {}, when(v.builtAt)),
           h('td', {}, when(v.publishedAt)),
@@ -121,17 +120,17 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
 
   async function build(slug: string, version: number): Promise<void> {
     progressBox.hidden = false;
-    progress.removeAttribute('value');
-    progressText.textContent = `Building v${version}…`;
+    progress.value = 0;
+    progressText.textContent = `v${version}: queued`;
     say(`Building ${slug} v${version}…`);
     try {
       const started = performance.now();
-      const { queued } = await ctx.api.build(slug, version);
-      // A server with a build queue answers 202 at once; follow the version until it settles.
-      const final = queued ? await follow(slug, version) : (await ctx.api.versions(slug)).versions.find((v) => v.version === version);
+      await ctx.api.build(slug, version);
+      // The build runs on the server's queue; follow the version until it settles.
+      const final = await follow(slug, version);
       progress.value = 100;
       const seconds = ((performance.now() - started) / 1000).toFixed(1);
-      if (final?.state === 'failed') throw new Error(final.error ?? 'the build failed');
+      if (final.state === 'failed') throw new Error(final.error ?? 'the build failed');
       progressText.textContent = `v${version} built in ${seconds} s: ready to publish`;
       say(`Built ${slug} v${version} (${seconds} s). Publish it to make it live.`, 'good');
     } catch (err) {
@@ -145,11 +144,11 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     for (;;) {
       await new Promise((r) => setTimeout(r, POLL_MS));
       const v = await ctx.api.version(slug, version);
+      if (v.state !== 'building') return v;
       if (v.progress) {
         progress.value = v.progress.percent;
-        progressText.textContent = `${v.progress.stage} · ${Math.round(v.progress.percent)}%`;
+        progressText.textContent = `v${version}: ${v.progress.stage} · ${Math.round(v.progress.percent)}%`;
       }
-      if (v.state !== 'building' && v.state !== 'draft' && v.state !== 'queued') return v;
     }
   }
 
@@ -186,20 +185,11 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     dialog.close();
     const from = active;
     try {
-      await ctx.api.rollback(slug, to);
-      say(`Rolled back ${slug} from v${from} to v${to}`, 'good');
+      const result = await ctx.api.rollback(slug, to);
+      const grace = result.previousVersion === null ? '' : `; v${result.previousVersion} still answers apps in flight for ${result.graceSeconds} s`;
+      say(`Rolled back ${slug} from v${from} to v${to}${grace}`, 'good');
     } catch (err) {
-      if (err instanceof ApiFailure && err.routeMissing) {
-        // Servers without the rollback route: publishing the earlier built version is the same switch.
-        try {
-          await ctx.api.publish(slug, to);
-          say(`Rolled back ${slug} from v${from} to v${to} (by publishing v${to} again)`, 'good');
-        } catch (inner) {
-          say(`Roll back refused: ${errorText(inner)}`, 'bad');
-        }
-      } else {
-        say(`Roll back refused: ${errorText(err)}`, 'bad');
-      }
+      say(`Roll back refused: ${errorText(err)}`, 'bad');
     }
     await load(false);
   }

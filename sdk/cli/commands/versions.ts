@@ -47,7 +47,7 @@ function describe(v: VersionInfo): string {
     v.state === 'building' ? ` ${v.progress?.stage ?? 'queued'} ${v.progress?.percent ?? 0}%` :
     v.state === 'failed' ? `: ${v.error}` :
     v.state === 'ready' && v.servedUntil ? `, still answering until ${v.servedUntil}` : '';
-  return `  v${v.version}  ${v.state}${extra}  ${v.siteCount} sites${shape}`;
+  return `  v${v.version}  ${v.state}${extra}  ${v.siteCount} sites${shape}${v.author ? `  by ${v.author}` : ''}`;
 }
 
 export async function versionsCommand(args: string[], print: (line: string) => void): Promise<void> {
