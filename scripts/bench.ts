@@ -127,7 +127,7 @@ async function randomMatrixAnswer(key: PirKeyPair) {
   const plainRun = () => answerQuery(m, key.n, values);
   const oursRun = () => answerWithPlan(m, values, choice.plan, engine);
   if (decodeRows(key, plainRun()).join('') !== decodeRows(key, oursRun().rows).join('')) throw new Error('bench: plain and planned answers differ');
-  const rounds = quick ? 2 : 3;
+  const rounds = quick ? 2 : 5;
   const plainTimes: number[] = [];
   const oursTimes: number[] = [];
   for (let i = 0; i < rounds; i++) {
@@ -195,7 +195,7 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   };
   log(
     `${label.padEnd(26)} ${String(sites.length).padStart(7)} ${buildS.toFixed(1).padStart(6)} s  ${result.matrix.padEnd(13)} ${result.bitsPerSite.toFixed(0).padStart(6)}  ` +
-      `${String(weighed.plain).padStart(9)} ${String(bestBlocked).padStart(9)} ${String(weighed.mined).padStart(9)} ${result.products.chosen.padEnd(12)}` +
+      `${String(weighed.plain).padStart(9)} ${String(bestBlocked).padStart(9)} ${String(weighed.mined ?? 'skipped').padStart(9)} ${result.products.chosen.padEnd(12)}` +
       `${(server.plainMs / 1000).toFixed(2).padStart(7)}${server.plainMeasured ? ' ' : '*'} ${(server.oursMs / 1000).toFixed(2).padStart(6)} ${server.speedup.toFixed(1).padStart(5)}x  ` +
       `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)} ${(model.peakBytes / 1e6).toFixed(0).padStart(5)}  ${String(parts).padStart(5)}`,
   );
