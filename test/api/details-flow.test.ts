@@ -1,4 +1,6 @@
 import { env } from 'cloudflare:test';
+import { around } from 'geokdbush';
+import KDBush from 'kdbush';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { parseSiteTable, type SiteTable } from '../../core/geo/site-table.ts';
 import { MAX_RECORD_BYTES } from '../../core/details/record-codec.ts';
@@ -34,6 +36,23 @@ describe('the private details round through the Worker', () => {
     tenant = await createTestTenant();
     version = await publishDataset(tenant, 'ri-details', csv);
     key = await generateKeyPair({ modulusBits: 2048 });
+  });
+
+  it('returns the k nearest sites with their stored records when built for k = 3 (checked against geokdbush)', async () => {
+    const kTenant = await createTestTenant();
+    await publishDataset(kTenant, 'ri-details-k3', csv, undefined, 3);
+    const kClient = connect({ endpoint: BASE, apiKey: kTenant.apiKey, keyPair: key, fetch: (r) => worker(r) });
+    // geokdbush (npm) as the outside reference: great-circle k nearest over the stored table.
+    const index = new KDBush(table.sites.length);
+    for (const s of table.sites) index.add(s.lon, s.lat);
+    index.finish();
+    for (const point of [{ lat: 41.824, lon: -71.413 }, { lat: 41.3, lon: -71.7 }]) {
+      const answer = await kClient.nearest('ri-details-k3', point, { k: 3, details: true });
+      expect(answer.results).toHaveLength(3);
+      expect(answer.results.map((r) => r.index)).toEqual(around(index, point.lon, point.lat, 3));
+      for (const found of answer.results) expect(found.record).toEqual(table.sites[found.index]);
+      expect(answer.cost.details!.queries).toBe(3);
+    }
   });
 
   it('returns exactly the stored record, every column, for the nearest site', async () => {

@@ -44,12 +44,12 @@ export function appRequest(t: TestTenant, method: string, path: string, body?: B
 }
 
 /** Creates, uploads, builds (with the layout asked for, else auto) and publishes a dataset from CSV text; returns the version number. */
-export async function publishDataset(t: TestTenant, slug: string, csv: string, layout?: string): Promise<number> {
+export async function publishDataset(t: TestTenant, slug: string, csv: string, layout?: string, maxK?: number): Promise<number> {
   await adminRequest(t, 'POST', '/v1/admin/datasets', JSON.stringify({ slug }), 'application/json');
   const up = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions`, csv, 'text/csv');
   if (up.status !== 201) throw new Error(`upload failed: ${up.status} ${await up.text()}`);
   const { version } = (await up.json()) as { version: number };
-  await buildAndWait(t, slug, version, layout);
+  await buildAndWait(t, slug, version, layout, maxK);
   const pub = await adminRequest(t, 'POST', `/v1/admin/datasets/${slug}/versions/${version}/publish`);
   if (pub.status !== 200) throw new Error(`publish failed: ${pub.status} ${await pub.text()}`);
   return version;
@@ -68,9 +68,10 @@ export interface VersionBody {
 }
 
 /** Queues a build (202) and polls the version until the queue consumer finished it. */
-export async function buildAndWait(t: TestTenant, slug: string, version: number, layout?: string): Promise<VersionBody> {
+export async function buildAndWait(t: TestTenant, slug: string, version: number, layout?: string, maxK?: number): Promise<VersionBody> {
   const path = `/v1/admin/datasets/${slug}/versions/${version}`;
-  const queued = await adminRequest(t, 'POST', `${path}/build${layout ? `?layout=${layout}` : ''}`);
+  const options = new URLSearchParams({ ...(layout ? { layout } : {}), ...(maxK ? { maxK: String(maxK) } : {}) }).toString();
+  const queued = await adminRequest(t, 'POST', `${path}/build${options ? `?${options}` : ''}`);
   if (queued.status !== 202) throw new Error(`build not queued: ${queued.status} ${await queued.text()}`);
   return waitForVersion(t, slug, version);
 }
