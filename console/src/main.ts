@@ -4,6 +4,7 @@ import { costScreen } from './cost/cost-screen.ts';
 import { keysScreen } from './keys/keys-screen.ts';
 import { mapScreen } from './map/map-screen.ts';
 import { sheetScreen } from './sheet/sheet-screen.ts';
+import { teamScreen } from './team/team-screen.ts';
 import { cautionsBar } from './ui/cautions.ts';
 import type { ConsoleContext, Screen, ScreenName } from './ui/context.ts';
 import { h } from './ui/dom.ts';
@@ -18,6 +19,7 @@ const TITLES: Record<ScreenName, string> = {
   map: 'Map',
   cost: 'Cost',
   keys: 'Keys & usage',
+  team: 'Team & activity',
 };
 
 function showLogin(): void {
@@ -48,6 +50,7 @@ function showConsole(signed: Signed): void {
   screens.set('map', mapScreen(ctx));
   screens.set('cost', costScreen(ctx));
   screens.set('keys', keysScreen(ctx));
+  screens.set('team', teamScreen(ctx));
 
   function go(name: ScreenName): void {
     for (const [n, button] of navButtons) button.setAttribute('aria-current', n === name ? 'page' : 'false');

@@ -267,10 +267,16 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Save as draft version' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Saved as version 2/);
     await page.getByRole('button', { name: 'Versions' }).click();
+    // Built for the 2 nearest this time: the matrix column says so, and an app may ask for two.
+    await page.getByLabel('Nearest sites an app may ask for (k, 1-8)').fill('2');
     await page.getByRole('button', { name: 'Build v2' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Built fenwick-clinics v2/);
+    await expect.poll(() => page.locator('tr[data-version="2"] .matrix').textContent(), { timeout: 90_000 }).toMatch(/^[\d,]+ × [\d,]+ · (adaptive|grid) · k = 2$/);
     await page.getByRole('button', { name: 'Publish v2' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v2 of fenwick-clinics is live \(was v1\)/);
+    const two = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 }, { k: 2 });
+    expect(two.version).toBe(2);
+    expect(two.results).toHaveLength(2);
 
     await page.locator('#diff-from').selectOption('1');
     await page.locator('#diff-to').selectOption('2');
@@ -357,8 +363,29 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(csv.find((l) => l.startsWith(`demo,${month},EUR,monthly_base,`))).toBe(`demo,${month},EUR,monthly_base,1,month,49990000,1,49990000`);
     expect(await unlabelledControls()).toEqual([]);
     await shot('14-keys-usage');
+  });
+
+  it('adds an editor (first password shown once) and lists who did what', async () => {
+    await page.getByRole('button', { name: 'Team & activity' }).click();
+    await expect.poll(() => page.locator('#users-table').textContent(), { timeout: 90_000 }).toContain(`${adminEmail} (you)`);
+    await page.getByLabel('Email', { exact: true }).fill('wren.editor@fenwick.example');
+    await page.locator('#user-role').selectOption('tenant_editor');
+    await page.getByRole('button', { name: 'Add user' }).click();
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Added wren.editor@fenwick.example as editor');
+    const password = (await page.locator('#new-user-password').textContent())!;
+    expect(password.length).toBeGreaterThanOrEqual(12);
+    const signIn = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'wren.editor@fenwick.example', password }) });
+    expect(signIn.status).toBe(200);
+    expect(await page.locator('tr[data-user="wren.editor@fenwick.example"] .role').textContent()).toBe('editor');
+    const activity = page.locator('#audit-table');
+    for (const line of [`version.rollback`, `dataset ${DATASET} v1`, 'user.create', 'key.revoke']) {
+      await expect.poll(() => activity.textContent(), { timeout: 90_000 }).toContain(line);
+    }
+    expect(await unlabelledControls()).toEqual([]);
+    await shot('15-team-activity');
     expect(pageErrors).toEqual([]);
   });
+
   it('keeps a 100,000-row table in the grid with only the visible rows in the page', async () => {
     await page.getByRole('button', { name: 'Site table' }).click();
     const lines = ['id,name,lat,lon'];
@@ -381,6 +408,6 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.keyboard.press('Control+Home');
     await expect.poll(() => page.locator('.grid-cell.active').textContent()).toBe('B0');
     await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('No problems');
-    await shot('15-100000-rows');
+    await shot('16-100000-rows');
   });
 });

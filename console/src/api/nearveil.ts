@@ -20,6 +20,10 @@ export interface VersionInfo {
   /** Who uploaded it: a user's email or an admin token's label (null for older versions). */
   author: string | null;
   progress: { stage: string; percent: number } | null;
+  /** Built versions: the layout kind, the k nearest served and the matrix shape. */
+  layout: 'grid' | 'kd' | 'veiled' | null;
+  maxK: number | null;
+  matrix: { rows: number; columns: number; ones: number; products: number } | null;
   /** A replaced version still answers until then. */
   servedUntil: string | null;
 }
@@ -49,6 +53,34 @@ export interface Usage {
   days: UsageDay[];
 }
 
+export type Role = 'operator' | 'tenant_admin' | 'tenant_editor';
+
+export interface UserInfo {
+  id: string;
+  email: string;
+  role: Role;
+  tenant: string | null;
+  createdAt: string;
+  disabledAt: string | null;
+  /** Only when the server made the password: shown once. */
+  initialPassword?: string;
+}
+
+export interface AuditLine {
+  id: string;
+  at: string;
+  actor: { kind: 'user' | 'credential'; id: string; label: string };
+  action: string;
+  target: string;
+  detail: Record<string, unknown> | null;
+}
+
+/** Build choices: the layout (core/build/choose-layout.ts) and the k nearest to serve (1-8). */
+export interface BuildOptions {
+  layout: 'auto' | 'adaptive' | 'grid' | 'veiled';
+  maxK: number;
+}
+
 const ds = (slug: string) => `/v1/admin/datasets/${encodeURIComponent(slug)}`;
 
 export function nearveilAdmin(client: ApiClient) {
@@ -60,7 +92,8 @@ export function nearveilAdmin(client: ApiClient) {
     upload: async (slug: string, csv: string) =>
       (await (await client.request('POST', `${ds(slug)}/versions`, { text: csv, contentType: 'text/csv; charset=utf-8' })).json()) as VersionInfo,
     /** Queues a build (202); the version then reports its progress until it is ready or failed. */
-    build: (slug: string, version: number) => client.json<VersionInfo>('POST', `${ds(slug)}/versions/${version}/build`),
+    build: (slug: string, version: number, options: BuildOptions = { layout: 'auto', maxK: 1 }) =>
+      client.json<VersionInfo>('POST', `${ds(slug)}/versions/${version}/build?layout=${options.layout}&maxK=${options.maxK}`),
     publish: (slug: string, version: number) =>
       client.json<{ activeVersion: number; previousVersion: number | null }>('POST', `${ds(slug)}/versions/${version}/publish`),
     rollback: (slug: string, toVersion: number) =>
@@ -73,6 +106,11 @@ export function nearveilAdmin(client: ApiClient) {
     revokeKey: (id: string) => client.json<{ id: string; revokedAt: string }>('POST', `/v1/admin/keys/${encodeURIComponent(id)}/revoke`),
     usage: (slug: string | null, month: string) =>
       client.json<Usage>('GET', `/v1/admin/usage?month=${encodeURIComponent(month)}${slug ? `&dataset=${encodeURIComponent(slug)}` : ''}`),
+    users: async () => (await client.json<{ users: UserInfo[] }>('GET', '/v1/admin/users')).users,
+    createUser: (body: { email: string; role: Role; password?: string }) => client.json<UserInfo>('POST', '/v1/admin/users', body),
+    updateUser: (id: string, change: { role?: Role; disabled?: boolean }) => client.json<UserInfo>('PATCH', `/v1/admin/users/${encodeURIComponent(id)}`, change),
+    audit: (before: string | null) =>
+      client.json<{ events: AuditLine[]; next: string | null }>('GET', `/v1/admin/audit?limit=50${before ? `&before=${encodeURIComponent(before)}` : ''}`),
     statement: (month: string, format: 'json' | 'csv') =>
       client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}${format === 'csv' ? '?format=csv' : ''}`),
   };

@@ -11,7 +11,7 @@ export interface ConsoleContext {
   go(screen: ScreenName): void;
 }
 
-export type ScreenName = 'sheet' | 'versions' | 'map' | 'cost' | 'keys';
+export type ScreenName = 'sheet' | 'versions' | 'map' | 'cost' | 'keys' | 'team';
 
 export interface Screen {
   element: HTMLElement;

@@ -1,9 +1,11 @@
-import type { VersionInfo } from '../api/nearveil.ts';
+import type { BuildOptions, VersionInfo } from '../api/nearveil.ts';
 import { csvToSheet } from '../io/csv-sheet.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
 import { errorText, fmt, h, setStatus } from '../ui/dom.ts';
 import { diffTables, type TableDiff } from './table-diff.ts';
+
+const LAYOUT_NAMES = { kd: 'adaptive', grid: 'grid', veiled: 'veiled' } as const;
 
 /** Rows of a diff drawn at once; the counts cover all of it. */
 const SHOWN_DIFF_ROWS = 400;
@@ -23,6 +25,15 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   const diffOut = h('div', { id: 'diff-out' });
   const rollbackTarget = h('select', { id: 'rollback-to' }) as HTMLSelectElement;
   const dialog = h('dialog', { 'aria-labelledby': 'rollback-title' }) as HTMLDialogElement;
+  const layoutSelect = h(
+    'select',
+    { id: 'build-layout' },
+    h('option', { value: 'auto' }, 'automatic (cheapest)'),
+    h('option', { value: 'adaptive' }, 'adaptive regions'),
+    h('option', { value: 'grid' }, 'uniform grid'),
+    h('option', { value: 'veiled' }, 'veiled (two rounds, nearest only)'),
+  ) as HTMLSelectElement;
+  const kInput = h('input', { id: 'build-k', type: 'number', min: 1, max: 8, step: 1, value: 1 }) as HTMLInputElement;
   let versions: VersionInfo[] = [];
   let active: number | null = null;
 
@@ -31,6 +42,18 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     { 'aria-label': 'Versions' },
     h('div', { class: 'toolbar' }, picker.element, h('button', { type: 'button', onclick: () => void load() }, 'Refresh')),
     status,
+    h(
+      'div',
+      { class: 'panel' },
+      h('h2', {}, 'Build options'),
+      h(
+        'div',
+        { class: 'toolbar' },
+        h('label', { for: 'build-layout' }, 'Layout ', layoutSelect),
+        h('label', { for: 'build-k' }, 'Nearest sites an app may ask for (k, 1-8) ', kInput),
+      ),
+      h('p', { class: 'grid-note' }, 'More sites per answer make every query larger; the veiled layout also hides where regions are, at about 1.2-1.3 times the bytes.'),
+    ),
     progressBox,
     h(
       'div',
@@ -39,7 +62,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
       h(
         'table',
         { class: 'plain', id: 'versions-table' },
-        h('thead', {}, h('tr', {}, ...['Version', 'State', 'Sites', 'Author', 'Saved', 'Built', 'Published', 'Actions'].map((t) => h('th', { scope: 'col' }, t)))),
+        h('thead', {}, h('tr', {}, ...['Version', 'State', 'Sites', 'Matrix', 'Author', 'Saved', 'Built', 'Published', 'Actions'].map((t) => h('th', { scope: 'col' }, t)))),
         tableBody,
       ),
     ),
@@ -108,6 +131,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
           h('td', {}, `v${v.version}`),
           h('td', {}, h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state), v.error ? ` ${v.error}` : '', v.state === 'ready' && v.servedUntil ? ` (answers apps in flight until ${when(v.servedUntil)})` : ''),
           h('td', { class: 'num' }, fmt.format(v.siteCount)),
+          h('td', { class: 'matrix' }, v.matrix ? `${fmt.format(v.matrix.rows)} × ${fmt.format(v.matrix.columns)} · ${LAYOUT_NAMES[v.layout ?? 'kd']} · k = ${v.maxK ?? 1}` : '—'),
           h('td', { class: 'author' }, v.author ?? 'not recorded'),
           h('td', {}, when(v.createdAt)),
           h('td', {}, when(v.builtAt)),
@@ -125,7 +149,9 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     say(`Building ${slug} v${version}…`);
     try {
       const started = performance.now();
-      await ctx.api.build(slug, version);
+      const maxK = Number(kInput.value);
+      if (!Number.isInteger(maxK) || maxK < 1 || maxK > 8) throw new Error(`k: expected a whole number from 1 to 8, got "${kInput.value}"`);
+      await ctx.api.build(slug, version, { layout: layoutSelect.value as BuildOptions['layout'], maxK });
       // The build runs on the server's queue; follow the version until it settles.
       const final = await follow(slug, version);
       progress.value = 100;
