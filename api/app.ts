@@ -3,6 +3,7 @@ import { tenantRoutes } from './accounts/tenant-routes.ts';
 import { userRoutes } from './accounts/user-routes.ts';
 import { auditRoutes } from './audit/audit-routes.ts';
 import { keyRoutes } from './auth/key-routes.ts';
+import { passwordRoutes } from './auth/password-routes.ts';
 import { sessionRoutes } from './auth/session-routes.ts';
 import { statementRoutes } from './billing/billing-routes.ts';
 import { tariffRoutes } from './billing/tariff-routes.ts';
@@ -21,6 +22,7 @@ export const app = new Hono<AppBindings>()
   .get('/', (c) => c.redirect('/console/', 302))
   .route('/', referenceRoutes)
   .route('/v1', sessionRoutes)
+  .route('/v1', passwordRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)

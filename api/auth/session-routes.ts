@@ -80,6 +80,6 @@ export function sessionUserView(user: SessionUser) {
 }
 
 /** The caller's address as Cloudflare reports it; local runs without the header share one bucket. */
-function clientAddress(c: Context<AppBindings>): string {
+export function clientAddress(c: Context<AppBindings>): string {
   return c.req.header('cf-connecting-ip') ?? 'unknown';
 }

@@ -2,6 +2,7 @@ import { z } from 'zod';
 import { LAYOUT_CHOICES } from '../../core/build/choose-layout.ts';
 import { CreateTenantBody, CreateUserBody, UpdateUserBody } from '../accounts/account-schemas.ts';
 import { CreateKeyBody } from '../auth/key-routes.ts';
+import { ChangePasswordBody } from '../auth/password-routes.ts';
 import { SignInBody } from '../auth/session-routes.ts';
 import { CreateDatasetBody } from '../datasets/admin-routes.ts';
 import { ApiKey, AuditEvent, Dataset, SessionBody, Statement, Tariff, Tenant, UsageReport, User, Version } from './response-schemas.ts';
@@ -40,6 +41,8 @@ export const ROUTE_DOCS: RouteDoc[] = [
   { method: 'post', path: '/v1/session', tag: 'Session', summary: 'Sign in', description: 'Sets the nv_session cookie (HttpOnly, Secure, SameSite=Strict). After failed sign-ins the email and the client address wait longer and longer (429 with Retry-After).', access: 'public', body: json(SignInBody), ok: { status: 200, description: 'signed in', schema: SessionBody }, errors: [...JSON_BODY, 'content_type', 'login_failed', 'login_throttled'] },
   { method: 'get', path: '/v1/session', tag: 'Session', summary: 'The signed-in user and the CSRF token', access: 'session', ok: { status: 200, description: 'signed in', schema: SessionBody }, errors: ['credential_missing', 'session_unknown', 'session_expired', 'user_disabled'] },
   { method: 'delete', path: '/v1/session', tag: 'Session', summary: 'Sign out', access: 'session', ok: { status: 204, description: 'signed out; the cookie is cleared' }, errors: ['credential_missing', 'session_unknown', 'session_expired', 'csrf_missing', 'csrf_mismatch'] },
+
+  { method: 'put', path: '/v1/session/password', tag: 'Session', summary: 'Change your own password', description: 'Needs the current password; wrong ones count against the sign-in throttle. Every other session of yours ends.', access: 'session', body: json(ChangePasswordBody), ok: { status: 204, description: 'changed' }, errors: [...JSON_BODY, 'credential_missing', 'credential_wrong_kind', 'credential_unknown', 'session_unknown', 'session_expired', 'user_disabled', 'csrf_missing', 'csrf_mismatch', 'password_wrong', 'login_throttled'] },
 
   { method: 'post', path: '/v1/admin/datasets', tag: 'Datasets', summary: 'Create a dataset', access: 'tenant_editor', query: tenantQuery, body: json(CreateDatasetBody), ok: { status: 201, description: 'created', schema: Dataset }, errors: [...AUTH, ...JSON_BODY, 'dataset_exists'] },
   { method: 'get', path: '/v1/admin/datasets', tag: 'Datasets', summary: "List the tenant's datasets", access: 'tenant_editor', query: tenantQuery, ok: { status: 200, description: 'the datasets', schema: z.object({ datasets: z.array(Dataset) }) }, errors: AUTH },

@@ -9,6 +9,7 @@ import { cautionsBar } from './ui/cautions.ts';
 import type { ConsoleContext, Screen, ScreenName } from './ui/context.ts';
 import { h } from './ui/dom.ts';
 import { loginScreen } from './ui/login-screen.ts';
+import { passwordDialog } from './ui/password-dialog.ts';
 import { versionsScreen } from './versions/versions-screen.ts';
 
 const root = document.getElementById('app')!;
@@ -66,10 +67,13 @@ function showConsole(signed: Signed): void {
     navButtons.set(name, button);
     nav.append(button);
   }
+  const password = passwordDialog(ctx.api);
   const who = h(
     'span',
     { class: 'who' },
     `${signed.label}${signed.user?.tenant ? ` · ${signed.user.tenant.name}` : ''}${signed.user ? ` · ${signed.user.role.replace('_', ' ')}` : ''} `,
+    signed.user ? h('button', { type: 'button', onclick: () => password.open() }, 'Password…') : null,
+    ' ',
     h('button', {
       type: 'button',
       onclick: async () => {
@@ -79,7 +83,7 @@ function showConsole(signed: Signed): void {
       },
     }, 'Sign out'),
   );
-  root.replaceChildren(h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), nav, who), cautionsBar(), main);
+  root.replaceChildren(h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), nav, who), cautionsBar(), main, password.element);
   const wanted = location.hash.slice(1) as ScreenName;
   go(wanted in TITLES ? wanted : 'sheet');
 }

@@ -121,3 +121,28 @@ describe('CSRF: cookie-authenticated changes need the session token, Bearer need
     expect(await errorOf(res)).toEqual({ status: 415, code: 'content_type' });
   });
 });
+
+describe('changing your own password', () => {
+  it('needs the current password and the CSRF token, ends your other sessions and keeps this one', async () => {
+    const t = await createTestTenant();
+    const editor = await createTestUser(t.tenantId, 'tenant_editor');
+    const [here, elsewhere] = [await signIn(editor), await signIn(editor)];
+    const change = (body: unknown, csrf?: string | null) => jsonRequest(here, 'PUT', '/v1/session/password', body, csrf);
+    const fresh = 'a new passphrase, long enough';
+
+    expect(await errorOf(await change({ currentPassword: editor.password, newPassword: fresh }, null))).toEqual({ status: 403, code: 'csrf_missing' });
+    expect(await errorOf(await change({ currentPassword: 'not it', newPassword: fresh }))).toEqual({ status: 403, code: 'password_wrong' });
+    const short = await change({ currentPassword: editor.password, newPassword: 'too short' });
+    expect(short.status).toBe(400);
+    expect(((await short.json()) as { error: { field: string } }).error.field).toBe('newPassword');
+    const byToken = await adminRequest(t, 'PUT', '/v1/session/password', JSON.stringify({ currentPassword: 'x', newPassword: fresh }), 'application/json');
+    expect(await errorOf(byToken)).toEqual({ status: 403, code: 'credential_wrong_kind' });
+
+    expect((await change({ currentPassword: editor.password, newPassword: fresh })).status).toBe(204);
+    expect((await sessionRequest(here, 'GET', '/v1/session')).status).toBe(200);
+    expect(await errorOf(await sessionRequest(elsewhere, 'GET', '/v1/session'))).toEqual({ status: 401, code: 'session_unknown' });
+    expect((await signIn({ email: editor.email, password: fresh })).cookie).toMatch(/^nv_session=/);
+    const old = await worker(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: editor.email, password: editor.password }) });
+    expect(await errorOf(old)).toEqual({ status: 401, code: 'login_failed' });
+  });
+});

@@ -44,6 +44,7 @@ let browser: Awaited<ReturnType<typeof launchBrowser>>;
 let page: Page;
 let apiKey = '';
 let adminEmail = '';
+let editorPassword = '';
 const pageErrors: string[] = [];
 
 async function shot(name: string): Promise<void> {
@@ -372,10 +373,8 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.locator('#user-role').selectOption('tenant_editor');
     await page.getByRole('button', { name: 'Add user' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Added wren.editor@fenwick.example as editor');
-    const password = (await page.locator('#new-user-password').textContent())!;
-    expect(password.length).toBeGreaterThanOrEqual(12);
-    const signIn = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'wren.editor@fenwick.example', password }) });
-    expect(signIn.status).toBe(200);
+    editorPassword = (await page.locator('#new-user-password').textContent())!;
+    expect(editorPassword.length).toBeGreaterThanOrEqual(12);
     expect(await page.locator('tr[data-user="wren.editor@fenwick.example"] .role').textContent()).toBe('editor');
     const activity = page.locator('#audit-table');
     for (const line of [`version.rollback`, `dataset ${DATASET} v1`, 'user.create', 'key.revoke']) {
@@ -409,5 +408,28 @@ describe('console: the data admin flow in headless Chromium', () => {
     await expect.poll(() => page.locator('.grid-cell.active').textContent()).toBe('B0');
     await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('No problems');
     await shot('16-100000-rows');
+  });
+
+  it('lets the new editor sign in with the first password, change it, and keeps admin screens from them', async () => {
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.getByLabel('Email', { exact: true }).fill('wren.editor@fenwick.example');
+    await page.getByLabel('Password', { exact: true }).fill(editorPassword);
+    await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+    await expect.poll(() => page.locator('header .who').textContent(), { timeout: 90_000 }).toContain('wren.editor@fenwick.example · Harrow Vale Care Network (demo) · tenant editor');
+    await page.getByRole('button', { name: 'Password…' }).click();
+    const dialog = page.getByRole('dialog', { name: 'Change my password' });
+    await dialog.getByLabel('Current password').fill(editorPassword);
+    await dialog.getByLabel('New password (at least 12 characters)').fill('wren picks a passphrase');
+    await dialog.getByLabel('New password again').fill('wren picks a passphrase');
+    await dialog.getByRole('button', { name: 'Change password' }).click();
+    await expect.poll(() => dialog.locator('.status').textContent(), { timeout: 90_000 }).toBe('Password changed. Your other sessions have been signed out.');
+    expect(await unlabelledControls()).toEqual([]);
+    await shot('17-password-changed');
+    await dialog.getByRole('button', { name: 'Close' }).click();
+    const fresh = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'wren.editor@fenwick.example', password: 'wren picks a passphrase' }) });
+    expect(fresh.status).toBe(200);
+    await page.getByRole('button', { name: 'Team & activity' }).click();
+    await expect.poll(() => status().textContent(), { timeout: 90_000 }).toBe('People and activity are for tenant admins; ask one of them for changes.');
+    expect(pageErrors).toEqual([]);
   });
 });

@@ -106,6 +106,9 @@ export function nearveilAdmin(client: ApiClient) {
     revokeKey: (id: string) => client.json<{ id: string; revokedAt: string }>('POST', `/v1/admin/keys/${encodeURIComponent(id)}/revoke`),
     usage: (slug: string | null, month: string) =>
       client.json<Usage>('GET', `/v1/admin/usage?month=${encodeURIComponent(month)}${slug ? `&dataset=${encodeURIComponent(slug)}` : ''}`),
+    changePassword: async (currentPassword: string, newPassword: string) => {
+      await client.request('PUT', '/v1/session/password', { json: { currentPassword, newPassword } });
+    },
     users: async () => (await client.json<{ users: UserInfo[] }>('GET', '/v1/admin/users')).users,
     createUser: (body: { email: string; role: Role; password?: string }) => client.json<UserInfo>('POST', '/v1/admin/users', body),
     updateUser: (id: string, change: { role?: Role; disabled?: boolean }) => client.json<UserInfo>('PATCH', `/v1/admin/users/${encodeURIComponent(id)}`, change),

@@ -89,7 +89,7 @@ export function teamScreen(ctx: ConsoleContext): Screen {
       const made = await ctx.api.createUser({ email: email.value, role: role.value as Role });
       passwordBox.replaceChildren(
         made.initialPassword
-          ? h('p', {}, `Added ${made.email}. Their first password, shown only now: `, h('code', { id: 'new-user-password' }, made.initialPassword), '. Pass it on privately; they can change it after signing in.')
+          ? h('p', {}, `Added ${made.email}. Their first password, shown only now: `, h('code', { id: 'new-user-password' }, made.initialPassword), '. Pass it on privately; they change it with Password… at the top once signed in.')
           : h('p', {}, `Added ${made.email}.`),
       );
       email.value = '';
