@@ -56,7 +56,6 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   password_wrong: 'The current password given to change it is not the current password (403).',
   invalid_format: 'The format asked for is not json or csv (400).',
   tariff_missing: 'The tenant has no tariff for the month of the statement; the operator sets one (409).',
-  build_failed: 'The build of the version failed; the version is marked failed (422).',
   site_table: 'The uploaded site table is malformed; details name rows and columns (400).',
   site_table_too_large: 'The site table has more rows than a build takes (413).',
   key_unknown: 'No API key with this id in the tenant (404).',
