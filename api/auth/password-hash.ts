@@ -1,3 +1,4 @@
+import { ApiError } from '../http/api-error.ts';
 import { constantTimeEqual } from './constant-time.ts';
 import { base64UrlDecode, base64UrlEncode } from './secrets.ts';
 
@@ -21,8 +22,16 @@ export async function pbkdf2Sha256(password: Uint8Array, salt: Uint8Array, itera
   if (!Number.isSafeInteger(iterations) || iterations < 1) throw new RangeError(`pbkdf2Sha256: expected iterations >= 1, got ${iterations}`);
   if (!Number.isSafeInteger(lengthBytes) || lengthBytes < 1) throw new RangeError(`pbkdf2Sha256: expected a length >= 1, got ${lengthBytes}`);
   const key = await crypto.subtle.importKey('raw', password as Uint8Array<ArrayBuffer>, 'PBKDF2', false, ['deriveBits']);
-  const bits = await crypto.subtle.deriveBits({ name: 'PBKDF2', hash: 'SHA-256', salt: salt as Uint8Array<ArrayBuffer>, iterations }, key, lengthBytes * 8);
-  return new Uint8Array(bits);
+  try {
+    const bits = await crypto.subtle.deriveBits({ name: 'PBKDF2', hash: 'SHA-256', salt: salt as Uint8Array<ArrayBuffer>, iterations }, key, lengthBytes * 8);
+    return new Uint8Array(bits);
+  } catch (err) {
+    // Hosted Workers have capped PBKDF2 iterations (workerd issue 1346): say so, never hash weaker.
+    if (err instanceof Error && err.name === 'NotSupportedError') {
+      throw new ApiError(503, 'password_hashing_unavailable', `passwords cannot be checked here: this runtime refuses PBKDF2 at ${iterations} iterations (${err.message}); nearveil does not hash with fewer`);
+    }
+    throw err;
+  }
 }
 
 /** A new stored hash "pbkdf2-sha256$<iterations>$<salt b64url>$<hash b64url>" with a fresh random salt. */

@@ -1,5 +1,5 @@
 import { pbkdf2Sync } from 'node:crypto';
-import { describe, expect, it } from 'vitest';
+import { describe, expect, it, vi } from 'vitest';
 import { constantTimeEqual } from '../../api/auth/constant-time.ts';
 import { hashPassword, PBKDF2_ITERATIONS, pbkdf2Sha256, verifyPassword } from '../../api/auth/password-hash.ts';
 import { base64UrlDecode, hex } from '../../api/auth/secrets.ts';
@@ -23,6 +23,16 @@ describe('PBKDF2-HMAC-SHA256 through WebCrypto in workerd', () => {
     expect(base64UrlDecode(salt!).length).toBe(16);
     const reference = pbkdf2Sync(password, base64UrlDecode(salt!), PBKDF2_ITERATIONS, 32, 'sha256');
     expect(hex(base64UrlDecode(hash!))).toBe(reference.toString('hex'));
+  });
+
+  it('answers 503 password_hashing_unavailable, never a weaker hash, where the runtime caps PBKDF2', async () => {
+    // The message workerd gives when its cap is lower than the count asked for (workerd issue 1346).
+    const spy = vi.spyOn(crypto.subtle, 'deriveBits').mockRejectedValueOnce(new DOMException('Pbkdf2 failed: iteration counts above 100000 are not supported (requested 600000).', 'NotSupportedError'));
+    try {
+      await expect(hashPassword('a password for the capped runtime')).rejects.toMatchObject({ status: 503, code: 'password_hashing_unavailable' });
+    } finally {
+      spy.mockRestore();
+    }
   });
 
   it('keeps the OWASP minimum of 600,000 iterations', () => {
