@@ -430,6 +430,11 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(fresh.status).toBe(200);
     await page.getByRole('button', { name: 'Team & activity' }).click();
     await expect.poll(() => status().textContent(), { timeout: 90_000 }).toBe('People and activity are for tenant admins; ask one of them for changes.');
+    // Editors build but do not publish or roll back: the console offers neither.
+    await page.getByRole('button', { name: 'Versions' }).click();
+    await expect.poll(() => page.locator('tr[data-version="2"] .state').textContent(), { timeout: 90_000 }).toBe('ready');
+    expect(await page.getByRole('button', { name: /^Publish v/ }).count()).toBe(0);
+    expect(await page.getByRole('button', { name: 'Roll back…' }).isVisible()).toBe(false);
     expect(pageErrors).toEqual([]);
   });
 });

@@ -1,3 +1,4 @@
+import { canAdminister } from '../api/client.ts';
 import type { BuildOptions, VersionInfo } from '../api/nearveil.ts';
 import { csvToSheet } from '../io/csv-sheet.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
@@ -36,6 +37,8 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   const kInput = h('input', { id: 'build-k', type: 'number', min: 1, max: 8, step: 1, value: 1 }) as HTMLInputElement;
   let versions: VersionInfo[] = [];
   let active: number | null = null;
+  // Editors build; publishing and rolling back are for tenant admins (the server enforces it too).
+  const mayPublish = canAdminister(ctx.signed);
 
   const element = h(
     'section',
@@ -68,7 +71,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
     ),
     h(
       'div',
-      { class: 'panel' },
+      { class: 'panel', hidden: !mayPublish },
       h('h2', {}, 'Roll back'),
       h(
         'div',
@@ -123,7 +126,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
       ...versions.map((v) => {
         const actions = h('td', {});
         if (v.state === 'draft' || v.state === 'failed' || v.state === 'retired') actions.append(h('button', { type: 'button', onclick: () => void build(slug, v.version) }, `Build v${v.version}`), ' ');
-        if (v.state === 'ready') actions.append(h('button', { type: 'button', class: 'primary', onclick: () => void publish(slug, v.version) }, `Publish v${v.version}`), ' ');
+        if (v.state === 'ready' && mayPublish) actions.append(h('button', { type: 'button', class: 'primary', onclick: () => void publish(slug, v.version) }, `Publish v${v.version}`), ' ');
         actions.append(h('button', { type: 'button', onclick: () => openInSheet(slug, v.version) }, 'Open in table'));
         return h(
           'tr',
@@ -143,14 +146,14 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   }
 
   async function build(slug: string, version: number): Promise<void> {
+    const maxK = Number(kInput.value);
+    if (!Number.isInteger(maxK) || maxK < 1 || maxK > 8) return say(`k: expected a whole number from 1 to 8, got "${kInput.value}"`, 'bad');
     progressBox.hidden = false;
     progress.value = 0;
     progressText.textContent = `v${version}: queued`;
     say(`Building ${slug} v${version}…`);
     try {
       const started = performance.now();
-      const maxK = Number(kInput.value);
-      if (!Number.isInteger(maxK) || maxK < 1 || maxK > 8) throw new Error(`k: expected a whole number from 1 to 8, got "${kInput.value}"`);
       await ctx.api.build(slug, version, { layout: layoutSelect.value as BuildOptions['layout'], maxK });
       // The build runs on the server's queue; follow the version until it settles.
       const final = await follow(slug, version);
