@@ -1,10 +1,11 @@
 import type { LayoutChoice } from '../core/build/choose-layout.ts';
-import { NearveilError, send, type FetchLike } from './http.ts';
+import { NearveilError, send, type FetchLike, type SessionCredentials } from './http.ts';
 
 export interface AdminOptions {
   endpoint: string;
-  /** The tenant's admin token (starts with nva_). */
-  token: string;
+  /** The tenant's admin token (starts with nva_); or `session`, a signed-in person (sdk/session.ts). */
+  token?: string;
+  session?: SessionCredentials;
   fetch?: FetchLike;
 }
 
@@ -80,7 +81,8 @@ function queryString(params: Record<string, string | undefined>): string {
 
 /** Provider-side calls: datasets, site table uploads, builds and publishing. */
 export function connectAdmin(options: AdminOptions) {
-  const http = { endpoint: options.endpoint, secret: options.token, ...(options.fetch ? { fetch: options.fetch } : {}) };
+  if (!options.token && !options.session) throw new TypeError('connectAdmin: expected an admin token or a session');
+  const http = { endpoint: options.endpoint, secret: options.token ?? '', ...(options.session ? { session: options.session } : {}), ...(options.fetch ? { fetch: options.fetch } : {}) };
   const json = async <T>(method: string, path: string, body?: unknown): Promise<T> => {
     const response = await send(http, method, path, body === undefined ? undefined : JSON.stringify(body), body === undefined ? undefined : 'application/json');
     return (await response.json()) as T;

@@ -20,14 +20,29 @@ export type FetchLike = (input: Request) => Promise<Response>;
 
 export interface HttpOptions {
   endpoint: string;
+  /** A bearer secret: an API key or an admin token ('' sends none). Ignored when `session` is given. */
   secret: string;
+  /** A signed-in person instead (sdk/session.ts): the session cookie and its CSRF token. */
+  session?: SessionCredentials;
   fetch?: FetchLike;
 }
 
-/** Sends one request with the bearer secret; any non-2xx answer becomes a NearveilError. */
+export interface SessionCredentials {
+  cookie: string;
+  csrfToken: string;
+}
+
+/** Per RFC 9110 section 9.2.1 these change nothing, so a session sends no CSRF token with them. */
+const SAFE_METHODS = new Set(['GET', 'HEAD', 'OPTIONS']);
+
+/** Sends one request with the bearer secret (or the session); any non-2xx answer becomes a NearveilError. */
 export async function send(options: HttpOptions, method: string, path: string, body?: BodyInit, contentType?: string, signal?: AbortSignal): Promise<Response> {
   const url = new URL(path, options.endpoint.endsWith('/') ? options.endpoint : options.endpoint + '/');
-  const headers: Record<string, string> = { authorization: `Bearer ${options.secret}` };
+  const headers: Record<string, string> = options.session
+    ? { cookie: options.session.cookie, ...(SAFE_METHODS.has(method) ? {} : { 'x-nearveil-csrf': options.session.csrfToken }) }
+    : options.secret
+      ? { authorization: `Bearer ${options.secret}` }
+      : {};
   if (contentType) headers['content-type'] = contentType;
   const request = new Request(url, { method, headers, ...(body === undefined ? {} : { body }), ...(signal ? { signal } : {}) });
   let response: Response;

@@ -138,6 +138,20 @@ describe('README commands', () => {
     expect(usage.totals.queries).toBe(usage.queries);
   });
 
+  it('`nearveil usage --email` signs the operator in to read any tenant\'s usage', () => {
+    const credentials = JSON.parse(readFileSync(join(env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { users: Record<string, { email: string; password: string }> };
+    const operator = credentials.users.operator!;
+    const asTenant = JSON.parse(nearveil(['usage', '--json']).stdout) as { queries: number };
+    const run = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo', '--json'], { cwd: ROOT, env: { ...env, NEARVEIL_PASSWORD: operator.password }, encoding: 'utf8', timeout: 120_000 });
+    expect(run.status, run.stderr).toBe(0);
+    const usage = JSON.parse(run.stdout) as { tenant: string; queries: number };
+    expect(usage.tenant).toBe('demo');
+    expect(usage.queries).toBe(asTenant.queries);
+    const wrong = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo'], { cwd: ROOT, env: { ...env, NEARVEIL_PASSWORD: 'not the password' }, encoding: 'utf8', timeout: 120_000 });
+    expect(wrong.status).not.toBe(0);
+    expect(wrong.stderr).toMatch(/the email or the password is wrong/);
+  });
+
   it('`nearveil query --details` prints the stored record of the nearest demo site, every column', () => {
     const table = parseSiteTable(harrowValeCsv());
     const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.62', '--lon', '-111.42', '--details', '--json']);

@@ -60,6 +60,13 @@ describe('nearveil usage arguments', () => {
     expect(await run(['usage', '--dataset', 'Not A Slug', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --dataset: /) });
     expect(await run(['usage', '--tenant', 'X!', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --tenant: /) });
     expect(await run(['usage', 'extra', '--token', 'nva_x'])).toMatchObject({ code: 2, err: expect.stringMatching(/unexpected argument "extra"/) });
+    const saved = process.env.NEARVEIL_PASSWORD;
+    delete process.env.NEARVEIL_PASSWORD;
+    try {
+      expect(await run(['usage', '--email', 'operator@nearveil.invalid', '--tenant', 'demo'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --email: set NEARVEIL_PASSWORD/) });
+    } finally {
+      if (saved !== undefined) process.env.NEARVEIL_PASSWORD = saved;
+    }
   });
 });
 

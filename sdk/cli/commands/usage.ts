@@ -1,12 +1,14 @@
 import { connectAdmin } from '../../admin.ts';
+import { signIn, signOut } from '../../session.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
 import { connectionOptions, parseCommand, requireString, resolveConnection } from '../options.ts';
 
-export const USAGE_HELP = `nearveil usage [--dataset SLUG] [--month YYYY-MM] [--tenant SLUG] [--json]
+export const USAGE_HELP = `nearveil usage [--dataset SLUG] [--month YYYY-MM] [--tenant SLUG] [--email ADDRESS] [--json]
   Answered and refused queries, bytes in and out and server multiplications of a UTC month
   (default: this month), per day and in total. Refused queries are counted apart, never billed.
-  --tenant SLUG      another tenant's usage (the operator only)
+  --tenant SLUG      another tenant's usage (the operator only, signed in with --email)
+  --email ADDRESS    sign in as this person (password from NEARVEIL_PASSWORD) instead of the admin token
   --json             print one object: month, the totals queries, rejected, bytesIn, bytesOut,
                      multiplications (also under "totals"), and days
   --endpoint URL, --token TOKEN   override the dev credentials`;
@@ -19,6 +21,7 @@ export async function usageCommand(args: string[], print: (line: string) => void
     dataset: { type: 'string' },
     month: { type: 'string' },
     tenant: { type: 'string' },
+    email: { type: 'string' },
   });
   if (values.help) return print(USAGE_HELP);
   if (positionals.length > 0) throw new CliError(`usage: unexpected argument "${positionals[0]}" (see \`nearveil help\`)`);
@@ -29,8 +32,8 @@ export async function usageCommand(args: string[], print: (line: string) => void
     if (slug && !slug.success) throw new CliError(`--${flag}: ${slug.error.issues[0]?.message}, got "${value}"`);
   }
   const conn = resolveConnection(values);
-  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
-  const report = await connectAdmin({ endpoint: conn.endpoint, token }).usage({ tenant: values.tenant, dataset: values.dataset, month: values.month });
+  const query = { tenant: values.tenant, dataset: values.dataset, month: values.month };
+  const report = values.email === undefined ? await usageByToken(conn, query) : await usageSignedIn(conn.endpoint, values.email, query);
   if (values.json) {
     print(JSON.stringify({ tenant: report.tenant, dataset: report.dataset, month: report.month, ...report.totals, totals: report.totals, days: report.days }));
     return;
@@ -40,4 +43,23 @@ export async function usageCommand(args: string[], print: (line: string) => void
   print(`  ${t.queries} answered queries, ${t.rejected} refused (not billed)`);
   print(`  ${t.bytesIn} bytes in, ${t.bytesOut} bytes out, ${t.multiplications} server multiplications`);
   for (const d of report.days) print(`  ${d.day}: ${d.queries} answered, ${d.rejected} refused, ${d.bytesIn + d.bytesOut} bytes, ${d.multiplications} products`);
+}
+
+type UsageQuery = Parameters<ReturnType<typeof connectAdmin>['usage']>[0];
+
+function usageByToken(conn: { endpoint: string; token?: string }, query: UsageQuery) {
+  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
+  return connectAdmin({ endpoint: conn.endpoint, token }).usage(query);
+}
+
+/** As a signed-in person (the operator, for any tenant): the password comes from the environment, never the command line. */
+async function usageSignedIn(endpoint: string, email: string, query: UsageQuery) {
+  const password = process.env.NEARVEIL_PASSWORD;
+  if (!password) throw new CliError('--email: set NEARVEIL_PASSWORD to the password of that account (it is never read from the command line, where others could see it)');
+  const session = await signIn(endpoint, email, password);
+  try {
+    return await connectAdmin({ endpoint, session }).usage(query);
+  } finally {
+    await signOut(endpoint, session).catch(() => undefined);
+  }
 }
