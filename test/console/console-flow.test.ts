@@ -437,4 +437,16 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(await page.getByRole('button', { name: 'Roll back…' }).isVisible()).toBe(false);
     expect(pageErrors).toEqual([]);
   });
+
+  it('tells the operator, who has no tenant, where its work is done', async () => {
+    const operator = (JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as { users: Record<string, { email: string; password: string }> }).users.operator!;
+    await page.getByRole('button', { name: 'Sign out' }).click();
+    await page.getByLabel('Email', { exact: true }).fill(operator.email);
+    await page.getByLabel('Password', { exact: true }).fill(operator.password);
+    await page.getByRole('button', { name: 'Sign in', exact: true }).click();
+    await expect.poll(() => page.locator('#operator-note').textContent(), { timeout: 90_000 }).toContain('the operator belongs to no tenant');
+    expect(await page.getByRole('grid').count()).toBe(0);
+    await shot('18-operator');
+    expect(pageErrors).toEqual([]);
+  });
 });
