@@ -3,6 +3,7 @@ import { nearveilAdmin } from './api/nearveil.ts';
 import { costScreen } from './cost/cost-screen.ts';
 import { keysScreen } from './keys/keys-screen.ts';
 import { mapScreen } from './map/map-screen.ts';
+import { tenantsScreen } from './operator/tenants-screen.ts';
 import { sheetScreen } from './sheet/sheet-screen.ts';
 import { teamScreen } from './team/team-screen.ts';
 import { cautionsBar } from './ui/cautions.ts';
@@ -28,27 +29,18 @@ function showLogin(): void {
   (document.getElementById('login-email') as HTMLInputElement | null)?.focus();
 }
 
-/** The operator has no tenant of its own: its work (tenants, tariffs) goes through the API and CLI. */
-function showOperatorNote(signed: Signed): void {
+/** The operator belongs to no tenant: its console is the tenants, their tariffs and statements. */
+function showOperator(signed: Signed): void {
   const leave = h('button', { type: 'button', onclick: async () => { await signOut(signed); showLogin(); } }, 'Sign out');
   root.replaceChildren(
     h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), h('span', { class: 'who' }, `${signed.label} · operator `, leave)),
     cautionsBar(),
-    h(
-      'main',
-      { id: 'main' },
-      h(
-        'div',
-        { class: 'panel', id: 'operator-note' },
-        h('h2', {}, 'Signed in as the operator'),
-        h('p', {}, 'The console edits one tenant\'s sites, versions and keys, and the operator belongs to no tenant. Create tenants and their admins, set tariffs and read any tenant\'s usage and statements through the API (see /reference) or the CLI (nearveil usage --email … --tenant …); then sign in here as a tenant\'s admin or editor.'),
-      ),
-    ),
+    h('main', { id: 'main' }, h('h1', { class: 'sr-only' }, 'Tenants and tariffs'), tenantsScreen(nearveilAdmin(signed.client))),
   );
 }
 
 function showConsole(signed: Signed): void {
-  if (signed.user?.role === 'operator') return showOperatorNote(signed);
+  if (signed.user?.role === 'operator') return showOperator(signed);
   const screens = new Map<ScreenName, Screen>();
   const main = h('main', { id: 'main' });
   const navButtons = new Map<ScreenName, HTMLButtonElement>();

@@ -438,14 +438,36 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(pageErrors).toEqual([]);
   });
 
-  it('tells the operator, who has no tenant, where its work is done', async () => {
+  it('gives the operator its own screen: tenants, a new tenant with its first admin, a tariff, a statement', async () => {
     const operator = (JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as { users: Record<string, { email: string; password: string }> }).users.operator!;
     await page.getByRole('button', { name: 'Sign out' }).click();
     await page.getByLabel('Email', { exact: true }).fill(operator.email);
     await page.getByLabel('Password', { exact: true }).fill(operator.password);
     await page.getByRole('button', { name: 'Sign in', exact: true }).click();
-    await expect.poll(() => page.locator('#operator-note').textContent(), { timeout: 90_000 }).toContain('the operator belongs to no tenant');
+    await expect.poll(() => page.locator('tr[data-tenant="demo"]').textContent(), { timeout: 90_000 }).toContain('Harrow Vale Care Network (demo)');
     expect(await page.getByRole('grid').count()).toBe(0);
+    await page.getByLabel('Slug', { exact: true }).fill('orrin-shelters');
+    await page.getByLabel('Name', { exact: true }).fill('Orrin Shelters (invented)');
+    await page.getByLabel('First admin email').fill('lead@orrin.example');
+    await page.getByRole('button', { name: 'Create tenant' }).click();
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Created tenant orrin-shelters');
+    const firstPassword = (await page.locator('#tenant-admin-password').textContent())!;
+    const lead = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'lead@orrin.example', password: firstPassword }) });
+    expect(lead.status).toBe(200);
+    await expect.poll(() => page.locator('#tariff-now').textContent(), { timeout: 90_000 }).toBe('orrin-shelters has no tariff yet: its statements are refused until one is set. Prices in EUR.');
+    for (const [label, value] of [['Per query', '0.002'], ['Per GB moved', '0.1'], ['Per million products', '0.003'], ['Monthly base', '10']]) {
+      await page.getByLabel(label!, { exact: true }).fill(value!);
+    }
+    await page.getByRole('button', { name: 'Set tariff' }).click();
+    await expect.poll(() => page.locator('#tariff-now').textContent(), { timeout: 90_000 }).toContain('EUR 0.002000 per answered query, EUR 0.100000 per GB');
+    await expect.poll(() => page.locator('#tariff-now').textContent(), { timeout: 90_000 }).toContain(`(set by ${operator.email})`);
+    // Its tariff is the one the server bills with: the new tenant's first statement is its base.
+    const month = new Date().toISOString().slice(0, 7);
+    const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: `orrin-shelters ${month} (CSV)` }).click()]);
+    const csv = readFileSync((await download.path())!, 'utf8');
+    expect(csv).toContain(`orrin-shelters,${month},EUR,monthly_base,1,month,10000000,1,10000000`);
+    expect(csv).toContain(`orrin-shelters,${month},EUR,total,,,,,10000000`);
+    expect(await unlabelledControls()).toEqual([]);
     await shot('18-operator');
     expect(pageErrors).toEqual([]);
   });

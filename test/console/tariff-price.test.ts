@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { buildStatement } from '../../api/billing/statement.ts';
-import { formatPrice, queryPrice, tariffFromStatement } from '../../console/src/cost/tariff.ts';
+import { formatPrice, parsePrice, queryPrice, tariffFromStatement } from '../../console/src/cost/tariff.ts';
 
 // The console prices one query from the manifest; the server bills the month from its meter.
 // They must agree: N identical queries on the statement cost N times the console's price, up to
@@ -38,5 +38,14 @@ describe('the price per query shown in the console', () => {
   it('writes amounts in currency units from micro-units', () => {
     expect(formatPrice(1_520.4, 'EUR')).toBe('EUR 0.001520');
     expect(formatPrice(49_990_000, 'EUR', 2)).toBe('EUR 49.99');
+  });
+
+  it('reads prices the operator types into whole micro-units, refusing what is not a price', () => {
+    expect(parsePrice('0.0015')).toBe(1_500);
+    expect(parsePrice(' 49.99 ')).toBe(49_990_000);
+    expect(parsePrice('1')).toBe(1_000_000);
+    expect(parsePrice('0.000001')).toBe(1);
+    for (const bad of ['0.0000001', '-1', '1e3', 'abc', '', '1,5', '.5']) expect(parsePrice(bad), bad).toBeNull();
+    for (const micros of [0, 1, 1_500, 90_000, 49_990_000]) expect(parsePrice(formatPrice(micros, 'EUR').slice(4))).toBe(micros);
   });
 });

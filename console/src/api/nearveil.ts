@@ -75,6 +75,28 @@ export interface AuditLine {
   detail: Record<string, unknown> | null;
 }
 
+export interface TenantInfo {
+  slug: string;
+  name: string;
+  createdAt: string;
+  users: number;
+  datasets: number;
+}
+
+/** A tariff as the operator sets it: integer micro-units of the billing currency. */
+export interface TariffPrices {
+  queryMicros: number;
+  gbMicros: number;
+  millionMultiplicationsMicros: number;
+  monthlyBaseMicros: number;
+}
+
+export interface TariffRow extends TariffPrices {
+  fromMonth: string;
+  setAt: string;
+  setBy: string;
+}
+
 /** Build choices: the layout (core/build/choose-layout.ts) and the k nearest to serve (1-8). */
 export interface BuildOptions {
   layout: 'auto' | 'adaptive' | 'grid' | 'veiled';
@@ -114,6 +136,14 @@ export function nearveilAdmin(client: ApiClient) {
     updateUser: (id: string, change: { role?: Role; disabled?: boolean }) => client.json<UserInfo>('PATCH', `/v1/admin/users/${encodeURIComponent(id)}`, change),
     audit: (before: string | null) =>
       client.json<{ events: AuditLine[]; next: string | null }>('GET', `/v1/admin/audit?limit=50${before ? `&before=${encodeURIComponent(before)}` : ''}`),
+    tenants: async () => (await client.json<{ tenants: TenantInfo[] }>('GET', '/v1/operator/tenants')).tenants,
+    createTenant: (body: { slug: string; name: string; admin?: { email: string } }) =>
+      client.json<TenantInfo & { admin: UserInfo | null }>('POST', '/v1/operator/tenants', body),
+    tariffs: (tenant: string) => client.json<{ currency: string; tariffs: TariffRow[] }>('GET', `/v1/operator/tenants/${encodeURIComponent(tenant)}/tariff`),
+    setTariff: (tenant: string, prices: TariffPrices & { fromMonth?: string }) =>
+      client.json<{ currency: string; tariff: TariffRow }>('PUT', `/v1/operator/tenants/${encodeURIComponent(tenant)}/tariff`, prices),
+    tenantStatement: (tenant: string, month: string) =>
+      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}?format=csv&tenant=${encodeURIComponent(tenant)}`),
     statement: (month: string, format: 'json' | 'csv') =>
       client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}${format === 'csv' ? '?format=csv' : ''}`),
   };

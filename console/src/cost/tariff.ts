@@ -47,3 +47,12 @@ export function queryPrice(t: Tariff, bytesMoved: number, products: number): Que
 export function formatPrice(microUnits: number, currency: string, decimals = 6): string {
   return `${currency} ${(microUnits / 1e6).toFixed(decimals)}`;
 }
+
+/** Currency units typed by a person, as whole micro-units (the API's integers); null if not a price. */
+export function parsePrice(text: string): number | null {
+  const t = text.trim();
+  if (!/^\d+(\.\d{1,6})?$/.test(t)) return null;
+  const [whole, fraction = ''] = t.split('.');
+  const micros = Number(whole) * 1_000_000 + Number(fraction.padEnd(6, '0'));
+  return Number.isSafeInteger(micros) ? micros : null;
+}
