@@ -54,7 +54,8 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     await putBlob(env, blobKeys.sealed(details.sealedHash), built.details.sealedFile);
   }
   // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
-  if (built.partition && built.manifest.partition) await putBlob(env, blobKeys.matrix(built.manifest.partition.contentHash), built.partition.blob);
+  const partitionKey = built.partition && built.manifest.partition ? blobKeys.matrix(built.manifest.partition.contentHash) : null;
+  if (partitionKey) await putBlob(env, partitionKey, built.partition!.blob);
   await stage('writing-manifest');
   const manifestKey = blobKeys.manifest(dataset.id, version.number);
   await putBlob(env, manifestKey, JSON.stringify(built.manifest));
@@ -65,6 +66,7 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     .set({
       state: 'ready',
       matrixKey,
+      partitionKey,
       manifestKey,
       contentHash: built.manifest.contentHash,
       summary: JSON.stringify(summary),

@@ -1,4 +1,4 @@
-import { and, eq, inArray, isNotNull, lt, lte } from 'drizzle-orm';
+import { and, eq, inArray, isNotNull, lt, lte, or } from 'drizzle-orm';
 import { database, type Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
 import type { Env } from '../env.ts';
@@ -19,7 +19,8 @@ export interface SweepReport {
  * The periodic sweep (scheduled() and after each publish): versions whose grace has passed turn
  * "retired" and their manifests and no-longer-referenced matrices are deleted; builds that
  * stopped reporting progress are marked failed. `now` is a parameter so tests can jump ahead.
- * A retired version's details matrix and sealed file go with it; its partition matrix goes with its cell matrix.
+ * A retired version's details matrix and sealed file go with it; its cell and partition matrices
+ * once no live version shares them.
  * Site tables are kept: they are the version's content, and a retired version can be built again.
  */
 export async function sweepVersions(env: Env, now = new Date()): Promise<SweepReport> {
@@ -31,14 +32,17 @@ export async function sweepVersions(env: Env, now = new Date()): Promise<SweepRe
     .returning();
   const deletedBlobs: string[] = [];
   for (const v of retired) {
-    // The manifest names the version's other blobs, so it is read before it goes.
-    const own = v.manifestKey ? await blobsNamedBy(env, v.manifestKey) : { perVersion: [], withMatrix: [] };
-    for (const key of own.perVersion) if (await deleteUnlessFresh(env, key, now)) deletedBlobs.push(key);
+    // The manifest names the version's details blobs, so it is read before it goes.
+    for (const key of v.manifestKey ? await detailsBlobsNamedBy(env, v.manifestKey) : []) {
+      if (await deleteUnlessFresh(env, key, now)) deletedBlobs.push(key);
+    }
     if (v.manifestKey) {
       await env.BLOBS.delete(v.manifestKey);
       deletedBlobs.push(v.manifestKey);
     }
-    if (v.matrixKey) deletedBlobs.push(...(await collectMatrix(env, db, [v.matrixKey, ...own.withMatrix], now)));
+    for (const key of [v.matrixKey, v.partitionKey]) {
+      if (key && (await collectMatrix(env, db, key, now))) deletedBlobs.push(key);
+    }
   }
   const staleBefore = new Date(now.getTime() - STALE_BUILD_SECONDS * 1000).toISOString();
   const failedBuilds = await db
@@ -50,35 +54,29 @@ export async function sweepVersions(env: Env, now = new Date()): Promise<SweepRe
 }
 
 /**
- * The blobs a manifest names besides the cell matrix. The details matrix and sealed file are the
- * version's own (their keys come from its per-version secret); a veiled layout's partition matrix
- * follows from the same sites as the cell matrix, so it is shared exactly when that matrix is.
+ * The details matrix and sealed file a manifest names. They are the version's own: their keys
+ * come from its per-version secret, so no other version can share them.
  */
-async function blobsNamedBy(env: Env, manifestKey: string): Promise<{ perVersion: string[]; withMatrix: string[] }> {
+async function detailsBlobsNamedBy(env: Env, manifestKey: string): Promise<string[]> {
   const text = await getBlobText(env, manifestKey);
-  if (text === null) return { perVersion: [], withMatrix: [] };
-  const m = JSON.parse(text) as { details?: { sealedHash: string; matrix: { contentHash: string } }; partition?: { contentHash: string } };
-  return {
-    perVersion: m.details ? [blobKeys.matrix(m.details.matrix.contentHash), blobKeys.sealed(m.details.sealedHash)] : [],
-    withMatrix: m.partition ? [blobKeys.matrix(m.partition.contentHash)] : [],
-  };
+  if (text === null) return [];
+  const m = JSON.parse(text) as { details?: { sealedHash: string; matrix: { contentHash: string } } };
+  return m.details ? [blobKeys.matrix(m.details.matrix.contentHash), blobKeys.sealed(m.details.sealedHash)] : [];
 }
 
 /**
- * Deletes a content-addressed cell matrix (and the blobs that go with it) once no version that can
- * still answer or be published (building, ready, active) points at it. Two versions with the same
- * content share one matrix, so the last one retired frees it. Returns the keys deleted.
+ * Deletes a content-addressed matrix (cell or partition) once no version that can still answer
+ * or be published (building, ready, active) points at it either way. Versions with the same
+ * content share one blob, so the last one retired frees it.
  */
-async function collectMatrix(env: Env, db: Database, keys: string[], now: Date): Promise<string[]> {
+async function collectMatrix(env: Env, db: Database, key: string, now: Date): Promise<boolean> {
   const users = await db
     .select({ number: versions.number })
     .from(versions)
-    .where(and(eq(versions.matrixKey, keys[0]!), inArray(versions.state, ['building', 'ready', 'active'])))
+    .where(and(or(eq(versions.matrixKey, key), eq(versions.partitionKey, key)), inArray(versions.state, ['building', 'ready', 'active'])))
     .limit(1);
-  if (users.length > 0) return [];
-  const deleted: string[] = [];
-  for (const key of keys) if (await deleteUnlessFresh(env, key, now)) deleted.push(key);
-  return deleted;
+  if (users.length > 0) return false;
+  return deleteUnlessFresh(env, key, now);
 }
 
 /** Deletes a blob unless it is gone already or was written within the last hour (a build may be about to use it). */

@@ -70,6 +70,8 @@ export const versions = sqliteTable(
     tableKey: text('table_key').notNull(),
     manifestKey: text('manifest_key'),
     matrixKey: text('matrix_key'),
+    /** A veiled layout's partition matrix (content-addressed like matrixKey, so versions may share it). */
+    partitionKey: text('partition_key'),
     contentHash: text('content_hash'),
     /**
      * 32 random bytes (hex) from which the build derives every record key (core/details/seal.ts).

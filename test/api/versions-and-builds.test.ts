@@ -179,6 +179,32 @@ describe('publish and rollback switch the active version atomically; old version
     expect((await client.nearest('roll', { lat: 41.8, lon: -71.4 })).version).toBe(2);
   });
 
+  it('keeps a partition matrix while a live veiled version shares it, and collects it after the last one retires', async () => {
+    const client = connect({ endpoint: BASE, apiKey: t.apiKey, keyPair: key, fetch: (r) => worker(r) });
+    const later = (hours: number) => new Date(Date.now() + (Number(env.VERSION_GRACE_SECONDS) + hours * 3600) * 1000);
+    const publishVeiled = async (csv: string) => {
+      const n = await upload(t, 'veiled-sweep', csv);
+      await buildAndWait(t, 'veiled-sweep', n, 'veiled');
+      expect((await post(t, `/v1/admin/datasets/veiled-sweep/versions/${n}/publish`)).status).toBe(200);
+      return `matrices/${(await client.manifest('veiled-sweep')).partition!.contentHash}.nvm`;
+    };
+    await publishDataset(t, 'veiled-sweep', tinyZipCsv(5), 'veiled');
+    const shared = `matrices/${(await client.manifest('veiled-sweep')).partition!.contentHash}.nvm`;
+    // Five and six nearby ZIP codes fall into the same coarse cells: one partition blob for both.
+    expect(await publishVeiled(tinyZipCsv(6))).toBe(shared);
+    const first = await sweepVersions(apiEnv, later(2));
+    const datasetId = (await findDataset(database(apiEnv), t.tenantId, 'veiled-sweep')).id;
+    expect(first.retired).toContainEqual({ datasetId, version: 1 });
+    expect(first.deletedBlobs).not.toContain(shared);
+    expect(await env.BLOBS.head(shared)).not.toBeNull();
+    const own = await publishVeiled(rhodeIslandZipCsv().csv);
+    expect(own).not.toBe(shared);
+    const second = await sweepVersions(apiEnv, later(4));
+    expect(second.deletedBlobs).toContain(shared);
+    expect(await env.BLOBS.head(shared)).toBeNull();
+    expect(await env.BLOBS.head(own)).not.toBeNull();
+  });
+
   it('rollback without a version walks back one published version at a time; bad targets are refused', async () => {
     await publishDataset(t, 'walk', tinyZipCsv(4));
     for (const size of [5, 6]) {
