@@ -27,6 +27,8 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
   const fromMonth = h('input', { id: 'tariff-from', type: 'month', value: currentMonth() }) as HTMLInputElement;
   const tariffNow = h('p', { id: 'tariff-now', class: 'grid-note' });
   let currency = '';
+  // Bumped by every action, so a slower reload started before it never overwrites its message.
+  let actions = 0;
 
   const tenantForm = h(
     'form',
@@ -70,7 +72,9 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
     h('div', { class: 'panel' }, h('h2', {}, 'Tariff'), tariffForm, tariffNow),
   );
 
-  async function load(): Promise<void> {
+  /** Reloads the lists; `announce` false keeps the status line of the action that just ran. */
+  async function load(announce = true): Promise<void> {
+    const seen = actions;
     try {
       const tenants = await api.tenants();
       body.replaceChildren(...tenants.map(row));
@@ -78,7 +82,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
       tariffTenant.replaceChildren(...tenants.map((t) => h('option', { value: t.slug }, t.slug)));
       if (chosen) tariffTenant.value = chosen;
       await showTariff();
-      say(`${tenants.length} tenant${tenants.length === 1 ? '' : 's'}`);
+      if (announce && seen === actions) say(`${tenants.length} tenant${tenants.length === 1 ? '' : 's'}`);
     } catch (err) {
       say(errorText(err), 'bad');
     }
@@ -114,6 +118,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
   }
 
   async function createTenant(): Promise<void> {
+    actions++;
     try {
       const made = await api.createTenant({ slug: slug.value.trim(), name: name.value.trim(), ...(adminEmail.value.trim() ? { admin: { email: adminEmail.value.trim() } } : {}) });
       created.replaceChildren(
@@ -124,7 +129,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
       tenantForm.reset();
       tariffTenant.value = made.slug;
       say(`Created tenant ${made.slug}`, 'good');
-      await load();
+      await load(false);
       tariffTenant.value = made.slug;
       await showTariff();
     } catch (err) {
@@ -133,6 +138,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
   }
 
   async function setTariff(): Promise<void> {
+    actions++;
     const prices: Partial<TariffPrices> = {};
     for (const [i, p] of PRICES.entries()) {
       const micros = parsePrice(priceInputs[i]!.value);
@@ -149,6 +155,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
   }
 
   async function statement(tenant: string, month: string): Promise<void> {
+    actions++;
     try {
       download(`nearveil-${tenant}-${month}.csv`, await (await api.tenantStatement(tenant, month)).text(), 'text/csv');
       say(`Downloaded the ${month} statement of ${tenant}`, 'good');
