@@ -373,11 +373,19 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.locator('#user-role').selectOption('tenant_editor');
     await page.getByRole('button', { name: 'Add user' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Added wren.editor@fenwick.example as editor');
-    editorPassword = (await page.locator('#new-user-password').textContent())!;
-    expect(editorPassword.length).toBeGreaterThanOrEqual(12);
-    expect(await page.locator('tr[data-user="wren.editor@fenwick.example"] .role').textContent()).toBe('editor');
+    const firstPassword = (await page.locator('#new-user-password').textContent())!;
+    expect(firstPassword.length).toBeGreaterThanOrEqual(12);
+    await expect.poll(() => page.locator('tr[data-user="wren.editor@fenwick.example"] .role').textContent(), { timeout: 90_000 }).toBe('editor');
+    // Say Wren lost it: the admin gives a new one, shown once, and the first stops working.
+    page.once('dialog', (d) => void d.accept());
+    await page.getByRole('button', { name: 'New password for wren.editor@fenwick.example' }).click();
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('wren.editor@fenwick.example has a new password');
+    editorPassword = (await page.locator('#reset-user-password').textContent())!;
+    expect(editorPassword).toMatch(/^[A-Za-z0-9_-]{24}$/);
+    const withFirst = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'wren.editor@fenwick.example', password: firstPassword }) });
+    expect(withFirst.status).toBe(401);
     const activity = page.locator('#audit-table');
-    for (const line of [`version.rollback`, `dataset ${DATASET} v1`, 'user.create', 'key.revoke']) {
+    for (const line of [`version.rollback`, `dataset ${DATASET} v1`, 'user.create', 'user.update', 'key.revoke']) {
       await expect.poll(() => activity.textContent(), { timeout: 90_000 }).toContain(line);
     }
     expect(await unlabelledControls()).toEqual([]);

@@ -133,7 +133,7 @@ export function nearveilAdmin(client: ApiClient) {
     },
     users: async () => (await client.json<{ users: UserInfo[] }>('GET', '/v1/admin/users')).users,
     createUser: (body: { email: string; role: Role; password?: string }) => client.json<UserInfo>('POST', '/v1/admin/users', body),
-    updateUser: (id: string, change: { role?: Role; disabled?: boolean }) => client.json<UserInfo>('PATCH', `/v1/admin/users/${encodeURIComponent(id)}`, change),
+    updateUser: (id: string, change: { role?: Role; disabled?: boolean; password?: string }) => client.json<UserInfo>('PATCH', `/v1/admin/users/${encodeURIComponent(id)}`, change),
     audit: (before: string | null) =>
       client.json<{ events: AuditLine[]; next: string | null }>('GET', `/v1/admin/audit?limit=50${before ? `&before=${encodeURIComponent(before)}` : ''}`),
     tenants: async () => (await client.json<{ tenants: TenantInfo[] }>('GET', '/v1/operator/tenants')).tenants,

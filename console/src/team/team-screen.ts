@@ -3,6 +3,12 @@ import type { AuditLine, Role, UserInfo } from '../api/nearveil.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { errorText, h, setStatus } from '../ui/dom.ts';
 
+/** 18 random bytes as base64url: 24 characters, 144 bits (the server asks for at least 12 characters). */
+function randomPassword(): string {
+  const bytes = crypto.getRandomValues(new Uint8Array(18));
+  return btoa(String.fromCharCode(...bytes)).replace(/\+/g, '-').replace(/\//g, '_');
+}
+
 const ROLE_NAMES: Record<Exclude<Role, 'operator'>, string> = { tenant_admin: 'admin', tenant_editor: 'editor' };
 
 /** The tenant's people and its audit trail: who may do what, and who did what when. */
@@ -71,6 +77,8 @@ export function teamScreen(ctx: ConsoleContext): Screen {
         u.disabledAt
           ? h('button', { type: 'button', onclick: () => void change(u, { disabled: false }, `Enabled ${u.email}`) }, `Enable ${u.email}`)
           : h('button', { type: 'button', class: 'danger', onclick: () => void disable(u) }, `Disable ${u.email}`),
+        ' ',
+        h('button', { type: 'button', onclick: () => void resetPassword(u) }, `New password for ${u.email}`),
       );
     }
     return h(
@@ -105,13 +113,24 @@ export function teamScreen(ctx: ConsoleContext): Screen {
     await change(u, { disabled: true }, `Disabled ${u.email}`);
   }
 
-  async function change(u: UserInfo, what: { role?: Role; disabled?: boolean }, done: string): Promise<void> {
+  /** For someone who lost theirs: a random password, shown once; their sessions end. */
+  async function resetPassword(u: UserInfo): Promise<void> {
+    if (!window.confirm(`Give ${u.email} a new password? Their current one stops working and they are signed out.`)) return;
+    const password = randomPassword();
+    if (!(await change(u, { password }, `${u.email} has a new password`))) return;
+    passwordBox.replaceChildren(h('p', {}, `${u.email}'s new password, shown only now: `, h('code', { id: 'reset-user-password' }, password), '. Pass it on privately.'));
+  }
+
+  /** Applies a change to a person; false (and the reason shown) when the server refused it. */
+  async function change(u: UserInfo, what: { role?: Role; disabled?: boolean; password?: string }, done: string): Promise<boolean> {
     try {
       await ctx.api.updateUser(u.id, what);
       say(done, 'good');
       await Promise.all([loadUsers(), loadAudit(true)]);
+      return true;
     } catch (err) {
       say(errorText(err), 'bad');
+      return false;
     }
   }
 
