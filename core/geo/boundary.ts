@@ -346,26 +346,7 @@ function advantageTerms(piece: Piece, p: number, q: number): { alpha: number; be
  * alpha cos t + beta sin t + gamma; its maximum is at an end or at t = atan2(beta, alpha).
  */
 function maxAdvantage(piece: Piece, a: number, b: number, p: number, q: number): number {
-  const v = piece.points.xyz;
-  const dx = v[3 * p]! - v[3 * q]!;
-  const dy = v[3 * p + 1]! - v[3 * q + 1]!;
-  const dz = v[3 * p + 2]! - v[3 * q + 2]!;
-  const cos = piece.cosFixed;
-  const sin = piece.sinFixed;
-  let alpha: number;
-  let beta: number;
-  let gamma: number;
-  if (piece.seg.meridian) {
-    // p(t) = (cos t cos L, cos t sin L, sin t), t = latitude.
-    alpha = dx * cos + dy * sin;
-    beta = dz;
-    gamma = 0;
-  } else {
-    // p(t) = (cos F cos t, cos F sin t, sin F), t = longitude.
-    alpha = dx * cos;
-    beta = dy * cos;
-    gamma = dz * sin;
-  }
+  const { alpha, beta, gamma } = advantageTerms(piece, p, q);
   const t0 = a * RAD;
   const t1 = b * RAD;
   const peak = Math.atan2(beta, alpha);
