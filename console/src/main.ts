@@ -29,11 +29,19 @@ function showLogin(): void {
   (document.getElementById('login-email') as HTMLInputElement | null)?.focus();
 }
 
+function signOutButton(signed: Signed): HTMLButtonElement {
+  const leave = async () => {
+    sessionStorage.removeItem('nearveil.token');
+    await signOut(signed);
+    showLogin();
+  };
+  return h('button', { type: 'button', onclick: () => void leave() }, 'Sign out');
+}
+
 /** The operator belongs to no tenant: its console is the tenants, their tariffs and statements. */
 function showOperator(signed: Signed): void {
-  const leave = h('button', { type: 'button', onclick: async () => { await signOut(signed); showLogin(); } }, 'Sign out');
   root.replaceChildren(
-    h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), h('span', { class: 'who' }, `${signed.label} · operator `, leave)),
+    h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), h('span', { class: 'who' }, `${signed.label} · operator `, signOutButton(signed))),
     cautionsBar(),
     h('main', { id: 'main' }, h('h1', { class: 'sr-only' }, 'Tenants and tariffs'), tenantsScreen(nearveilAdmin(signed.client))),
   );
@@ -86,14 +94,7 @@ function showConsole(signed: Signed): void {
     `${signed.label}${signed.user?.tenant ? ` · ${signed.user.tenant.name}` : ''}${signed.user ? ` · ${signed.user.role.replace('_', ' ')}` : ''} `,
     signed.user ? h('button', { type: 'button', onclick: () => password.open() }, 'Password…') : null,
     ' ',
-    h('button', {
-      type: 'button',
-      onclick: async () => {
-        sessionStorage.removeItem('nearveil.token');
-        await signOut(signed);
-        showLogin();
-      },
-    }, 'Sign out'),
+    signOutButton(signed),
   );
   root.replaceChildren(h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), nav, who), cautionsBar(), main, password.element);
   const wanted = location.hash.slice(1) as ScreenName;

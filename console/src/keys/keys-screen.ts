@@ -1,7 +1,7 @@
 import type { KeyInfo } from '../api/nearveil.ts';
 import { currentMonth, formatPrice } from '../cost/tariff.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
-import { bytes, download, errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { bytes, download, errorText, fmt, h, onSubmit, setStatus } from '../ui/dom.ts';
 import { drawUsageChart } from './usage-chart.ts';
 
 /** API keys (created shown once, revoked) and usage: daily chart, totals, monthly statement. */
@@ -25,10 +25,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
     h('label', { for: 'key-quota' }, 'Monthly quota ', quota),
     h('button', { type: 'submit', class: 'primary' }, 'Create key'),
   );
-  form.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void createKey();
-  });
+  onSubmit(form, createKey);
   month.addEventListener('change', () => void loadUsage());
   usageDataset.addEventListener('change', () => void loadUsage());
 

@@ -1,6 +1,6 @@
 import type { NearveilAdmin, TariffPrices, TenantInfo } from '../api/nearveil.ts';
 import { currentMonth, formatPrice, parsePrice } from '../cost/tariff.ts';
-import { download, errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { download, errorText, fmt, h, onSubmit, setStatus } from '../ui/dom.ts';
 
 /** The tariff's four prices: form label, field, and the unit a price is quoted per. */
 const PRICES: ReadonlyArray<{ field: keyof TariffPrices; label: string; per: string }> = [
@@ -38,10 +38,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
     h('label', { for: 'tenant-admin' }, 'First admin email ', adminEmail),
     h('button', { type: 'submit', class: 'primary' }, 'Create tenant'),
   );
-  tenantForm.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void createTenant();
-  });
+  onSubmit(tenantForm, createTenant);
   const tariffForm = h(
     'form',
     { class: 'toolbar', 'aria-label': 'Set a tariff' },
@@ -50,10 +47,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
     h('label', { for: 'tariff-from' }, 'From ', fromMonth),
     h('button', { type: 'submit', class: 'primary' }, 'Set tariff'),
   );
-  tariffForm.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void setTariff();
-  });
+  onSubmit(tariffForm, setTariff);
   tariffTenant.addEventListener('change', () => void showTariff());
 
   const element = h(

@@ -1,7 +1,7 @@
 import { canAdminister } from '../api/client.ts';
 import type { AuditLine, Role, UserInfo } from '../api/nearveil.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
-import { errorText, h, setStatus } from '../ui/dom.ts';
+import { errorText, h, onSubmit, setStatus } from '../ui/dom.ts';
 
 /** 18 random bytes as base64url: 24 characters, 144 bits (the server asks for at least 12 characters). */
 function randomPassword(): string {
@@ -30,10 +30,7 @@ export function teamScreen(ctx: ConsoleContext): Screen {
     h('label', { for: 'user-role' }, 'Role ', role),
     h('button', { type: 'submit', class: 'primary' }, 'Add user'),
   );
-  form.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void addUser();
-  });
+  onSubmit(form, addUser);
 
   const element = h(
     'section',

@@ -25,6 +25,14 @@ export function setStatus(el: HTMLElement, text: string, tone: 'plain' | 'good' 
   el.setAttribute('role', tone === 'bad' ? 'alert' : 'status');
 }
 
+/** Runs `action` when the form is submitted, instead of the browser's page load. */
+export function onSubmit(form: HTMLFormElement, action: () => Promise<void>): void {
+  form.addEventListener('submit', (e) => {
+    e.preventDefault();
+    void action();
+  });
+}
+
 /** Offers text as a file download (no server round trip). */
 export function download(name: string, text: string, type: string): void {
   const url = URL.createObjectURL(new Blob([text], { type }));

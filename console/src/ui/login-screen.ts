@@ -1,6 +1,6 @@
 import { signInWithPassword, signInWithToken, type Signed } from '../api/client.ts';
 import { cautionsBar } from './cautions.ts';
-import { errorText, h, setStatus } from './dom.ts';
+import { errorText, h, onSubmit, setStatus } from './dom.ts';
 
 /**
  * Sign-in: email and password (a login session) or, on servers without accounts and for
@@ -19,24 +19,20 @@ export function loginScreen(onSignedIn: (signed: Signed) => void): HTMLElement {
     h('label', { for: 'login-password' }, 'Password', password),
     h('button', { type: 'submit', class: 'primary' }, 'Sign in'),
   );
-  passwordForm.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void attempt(() => signInWithPassword(email.value, password.value));
-  });
+  onSubmit(passwordForm, () => attempt(() => signInWithPassword(email.value, password.value)));
   const tokenForm = h(
     'form',
     { 'aria-label': 'Sign in with an admin token' },
     h('label', { for: 'login-token' }, 'Admin token', token),
     h('button', { type: 'submit' }, 'Sign in with token'),
   );
-  tokenForm.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void attempt(async () => {
+  onSubmit(tokenForm, () =>
+    attempt(async () => {
       const signed = await signInWithToken(token.value);
       sessionStorage.setItem('nearveil.token', token.value.trim());
       return signed;
-    });
-  });
+    }),
+  );
 
   async function attempt(how: () => Promise<Signed>): Promise<void> {
     setStatus(status, 'Signing in…');

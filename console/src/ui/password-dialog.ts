@@ -1,5 +1,5 @@
 import type { NearveilAdmin } from '../api/nearveil.ts';
-import { errorText, h, setStatus } from './dom.ts';
+import { errorText, h, onSubmit, setStatus } from './dom.ts';
 
 /** "Change my password": current, new and the new again; the server checks the current one. */
 export function passwordDialog(api: NearveilAdmin): { open(): void; element: HTMLDialogElement } {
@@ -17,10 +17,7 @@ export function passwordDialog(api: NearveilAdmin): { open(): void; element: HTM
     h('div', { class: 'toolbar' }, h('button', { type: 'submit', class: 'primary' }, 'Change password'), h('button', { type: 'button', onclick: () => dialog.close() }, 'Close')),
   );
   const dialog = h('dialog', { 'aria-labelledby': 'password-title' }, h('h2', { id: 'password-title' }, 'Change my password'), form) as HTMLDialogElement;
-  form.addEventListener('submit', (e) => {
-    e.preventDefault();
-    void submit();
-  });
+  onSubmit(form, submit);
 
   async function submit(): Promise<void> {
     if (fresh.value !== again.value) return setStatus(status, 'The two new passwords differ', 'bad');
