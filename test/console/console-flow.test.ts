@@ -1,9 +1,5 @@
-import { spawn, type ChildProcess } from 'node:child_process';
-import { existsSync, mkdirSync, mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { createServer } from 'node:net';
-import { tmpdir } from 'node:os';
+import { existsSync, mkdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
 import type { Page } from 'playwright-core';
@@ -14,6 +10,7 @@ import { formatPrice, queryPrice } from '../../console/src/cost/tariff.ts';
 import type { Manifest } from '../../core/geo/manifest.ts';
 import { DEMO_TARIFF } from '../../scripts/dev/seed.ts';
 import { connect } from '../../sdk/client.ts';
+import { ROOT, startProduct, type ProductServer } from '../product-server.ts';
 import { launchBrowser } from './browser.ts';
 import { fenwickSites, fenwickTsv } from './flow-data.ts';
 
@@ -23,23 +20,11 @@ import { fenwickSites, fenwickTsv } from './flow-data.ts';
  * rows, fix the marked cell, save, build, publish, answer a query through the SDK, roll back,
  * see the map and the usage. A screenshot per step goes to test-results/console/.
  */
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-const PORT = await freePort();
-const BASE = `http://127.0.0.1:${PORT}`;
 const SHOTS = join(ROOT, 'test-results', 'console');
 const DATASET = 'fenwick-clinics';
-const scratch = mkdtempSync(join(tmpdir(), 'nearveil-console-'));
-const env = {
-  ...process.env,
-  PORT: String(PORT),
-  NEARVEIL_INSPECTOR_PORT: String(await freePort()),
-  NEARVEIL_STATE: join(scratch, 'state'),
-  NEARVEIL_HOME: join(scratch, 'home'),
-  CLOUDFLARE_CF_FETCH_ENABLED: 'false',
-  WRANGLER_SEND_METRICS: 'false',
-};
-let server: ChildProcess;
-let serverLog = '';
+let product: ProductServer;
+let BASE = '';
+let scratch = '';
 let browser: Awaited<ReturnType<typeof launchBrowser>>;
 let page: Page;
 let apiKey = '';
@@ -67,46 +52,14 @@ async function unlabelledControls(): Promise<string[]> {
   );
 }
 
-/** A loopback port nothing listens on now (the test's server and wrangler's debugger take one each). */
-function freePort(): Promise<number> {
-  return new Promise((resolve, reject) => {
-    const probe = createServer();
-    probe.once('error', reject);
-    probe.listen(0, '127.0.0.1', () => {
-      const { port } = probe.address() as { port: number };
-      probe.close(() => resolve(port));
-    });
-  });
-}
-
-async function stopGroup(child: ChildProcess | undefined): Promise<void> {
-  if (!child?.pid) return;
-  const signal = (sig: NodeJS.Signals) => {
-    try {
-      process.kill(-child.pid!, sig);
-    } catch {
-      // already gone
-    }
-  };
-  signal('SIGTERM');
-  for (let i = 0; i < 50 && child.exitCode === null && child.signalCode === null; i++) await new Promise((r) => setTimeout(r, 100));
-  signal('SIGKILL');
-}
-
 beforeAll(async () => {
   if (!existsSync(join(ROOT, '.console-build', 'console', 'index.html'))) {
     throw new Error('the console is not built: run `npm run build:console` (npm test and npm start do it first)');
   }
   mkdirSync(SHOTS, { recursive: true });
-  // Its own process group, so wrangler and workerd end with it (no server left on the port).
-  server = spawn(process.execPath, ['node_modules/tsx/dist/cli.mjs', 'scripts/start.ts'], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'], detached: true });
-  server.stdout!.on('data', (d: Buffer) => (serverLog += d.toString()));
-  server.stderr!.on('data', (d: Buffer) => (serverLog += d.toString()));
-  const until = Date.now() + 170_000;
-  while (!serverLog.includes('Press Ctrl-C')) {
-    if (Date.now() > until || server.exitCode !== null) throw new Error(`npm start did not come up:\n${serverLog}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
+  product = await startProduct('console');
+  BASE = product.base;
+  scratch = product.scratch;
   browser = await launchBrowser();
   await browser.context.grantPermissions(['clipboard-read', 'clipboard-write'], { origin: BASE });
   page = await browser.context.newPage();
@@ -115,8 +68,7 @@ beforeAll(async () => {
 
 afterAll(async () => {
   await browser?.close();
-  await stopGroup(server);
-  rmSync(scratch, { recursive: true, force: true });
+  await product?.stop();
 });
 
 describe('console: the data admin flow in headless Chromium', () => {

@@ -1,72 +1,48 @@
-import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
-import { createServer, type AddressInfo } from 'node:net';
-import { tmpdir } from 'node:os';
+import { spawnSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { greatCircleMeters } from '../../core/geo/distance.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
+import { ROOT, startProduct, type ProductServer } from '../product-server.ts';
 
 /**
  * The README's two commands as a newcomer runs them: `npm start` (here on a spare port with its
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
-const ROOT = fileURLToPath(new URL('../../', import.meta.url));
-/** A free loopback port, so several checkouts on one machine can run this test at once. */
-const PORT = await new Promise<number>((resolve, reject) => {
-  const probe = createServer();
-  probe.once('error', reject);
-  probe.listen(0, '127.0.0.1', () => {
-    const { port } = probe.address() as AddressInfo;
-    probe.close(() => resolve(port));
-  });
-});
-const scratch = mkdtempSync(join(tmpdir(), 'nearveil-e2e-'));
-const env = { ...process.env, PORT: String(PORT), NEARVEIL_STATE: join(scratch, 'state'), NEARVEIL_HOME: join(scratch, 'home') };
-let server: ChildProcess;
-let serverLog = '';
+let product: ProductServer;
 
 function nearveil(args: string[]) {
-  const run = spawnSync('npx', ['nearveil', ...args], { cwd: ROOT, env, encoding: 'utf8', timeout: 120_000 });
+  const run = spawnSync('npx', ['nearveil', ...args], { cwd: ROOT, env: product.env, encoding: 'utf8', timeout: 120_000 });
   return { code: run.status, stdout: run.stdout, stderr: run.stderr };
 }
 
 beforeAll(async () => {
-  server = spawn(process.execPath, ['node_modules/tsx/dist/cli.mjs', 'scripts/start.ts'], { cwd: ROOT, env, stdio: ['ignore', 'pipe', 'pipe'] });
-  server.stdout!.on('data', (d: Buffer) => (serverLog += d.toString()));
-  server.stderr!.on('data', (d: Buffer) => (serverLog += d.toString()));
-  const until = Date.now() + 170_000;
-  while (!serverLog.includes('Press Ctrl-C')) {
-    if (Date.now() > until || server.exitCode !== null) throw new Error(`npm start did not come up:\n${serverLog}`);
-    await new Promise((r) => setTimeout(r, 250));
-  }
+  product = await startProduct('e2e');
 });
 
 afterAll(async () => {
-  server?.kill('SIGTERM');
-  await new Promise((r) => setTimeout(r, 500));
-  rmSync(scratch, { recursive: true, force: true });
+  await product?.stop();
 });
 
 describe('README commands', () => {
   it('starts on 127.0.0.1, answers /healthz and prints where the credentials are', async () => {
-    expect((await fetch(`http://127.0.0.1:${PORT}/healthz`)).status).toBe(200);
-    expect(serverLog).toContain(join(scratch, 'home', 'dev-credentials.json'));
+    expect((await fetch(`${product.base}/healthz`)).status).toBe(200);
+    expect(product.log()).toContain(join(product.scratch, 'home', 'dev-credentials.json'));
   });
 
   it('writes the operator, tenant admin and editor sign-ins, and they sign in with the right roles', async () => {
-    const saved = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')) as {
+    const saved = JSON.parse(readFileSync(join(product.scratch, 'home', 'dev-credentials.json'), 'utf8')) as {
       adminToken: string;
       users: Record<string, { email: string; password: string; role: string }>;
     };
     expect(saved.adminToken).toMatch(/^nva_/);
     expect(Object.values(saved.users).map((u) => u.role).sort()).toEqual(['operator', 'tenant_admin', 'tenant_editor']);
     const admin = saved.users.tenantAdmin!;
-    const res = await fetch(`http://127.0.0.1:${PORT}/v1/session`, {
+    const res = await fetch(`${product.base}/v1/session`, {
       method: 'POST',
       headers: { 'content-type': 'application/json' },
       body: JSON.stringify({ email: admin.email, password: admin.password }),
@@ -139,15 +115,15 @@ describe('README commands', () => {
   });
 
   it('`nearveil usage --email` signs the operator in to read any tenant\'s usage', () => {
-    const credentials = JSON.parse(readFileSync(join(env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { users: Record<string, { email: string; password: string }> };
+    const credentials = JSON.parse(readFileSync(join(product.env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { users: Record<string, { email: string; password: string }> };
     const operator = credentials.users.operator!;
     const asTenant = JSON.parse(nearveil(['usage', '--json']).stdout) as { queries: number };
-    const run = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo', '--json'], { cwd: ROOT, env: { ...env, NEARVEIL_PASSWORD: operator.password }, encoding: 'utf8', timeout: 120_000 });
+    const run = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo', '--json'], { cwd: ROOT, env: { ...product.env, NEARVEIL_PASSWORD: operator.password }, encoding: 'utf8', timeout: 120_000 });
     expect(run.status, run.stderr).toBe(0);
     const usage = JSON.parse(run.stdout) as { tenant: string; queries: number };
     expect(usage.tenant).toBe('demo');
     expect(usage.queries).toBe(asTenant.queries);
-    const wrong = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo'], { cwd: ROOT, env: { ...env, NEARVEIL_PASSWORD: 'not the password' }, encoding: 'utf8', timeout: 120_000 });
+    const wrong = spawnSync('npx', ['nearveil', 'usage', '--email', operator.email, '--tenant', 'demo'], { cwd: ROOT, env: { ...product.env, NEARVEIL_PASSWORD: 'not the password' }, encoding: 'utf8', timeout: 120_000 });
     expect(wrong.status).not.toBe(0);
     expect(wrong.stderr).toMatch(/the email or the password is wrong/);
   });
