@@ -5,6 +5,7 @@
 // One module serves 2048- and 3072-bit moduli alike.
 import { modInverse } from '../bigint/modular.ts';
 import type { ProductEngine } from '../pir/product-engine.ts';
+import { MIN_ONES_LIMBS, onesLimbs, onesSchedule, SCHEDULE_ENTRY_WORDS, type PairAreas } from './ones-schedule.ts';
 
 /**
  * A ProductEngine (core/pir/product-engine.ts) whose slots hold values in Montgomery form below
@@ -13,7 +14,11 @@ import type { ProductEngine } from '../pir/product-engine.ts';
  * batches with a kernel product by a plain 1.
  */
 /** A ProductEngine that also reports the bytes of its WebAssembly memory (slots plus fixed areas). */
-export type MontgomeryKernel = ProductEngine & { readonly memoryBytes: number };
+export type MontgomeryKernel = ProductEngine & {
+  readonly memoryBytes: number;
+  /** All-ones low limbs of the modulus that multiplyOnes uses; 0 when the general multiply runs. */
+  readonly onesLimbs: number;
+};
 
 
 /**
@@ -33,6 +38,13 @@ export function kernelBitsFor(n: bigint): 2048 | 3072 {
 interface KernelExports {
   memory: WebAssembly.Memory;
   multiply: (groups: number, limbs: number, slotBytes: number) => void;
+  multiplyOnes: (groups: number, limbs: number, slotBytes: number, entries: number) => void;
+  pairLeft: WebAssembly.Global;
+  pairRight: WebAssembly.Global;
+  pairDigits: WebAssembly.Global;
+  pairModulus: WebAssembly.Global;
+  schedule: WebAssembly.Global;
+  scheduleCapacity: WebAssembly.Global;
   limbBits: WebAssembly.Global;
   maxLimbs: WebAssembly.Global;
   modulusShifted: WebAssembly.Global;
@@ -48,8 +60,12 @@ function kernelExports(module: WebAssembly.Module): KernelExports {
     throw new TypeError(`createMontgomeryKernel: expected WebAssembly.Module, got ${typeof module}`);
   }
   const e = new WebAssembly.Instance(module, {}).exports as Partial<KernelExports>;
-  const globals = ['limbBits', 'maxLimbs', 'modulusShifted', 'negInverse', 'lowLimb', 'index', 'indexCapacity', 'slots'] as const;
-  if (!(e.memory instanceof WebAssembly.Memory) || typeof e.multiply !== 'function' || globals.some((g) => !(e[g] instanceof WebAssembly.Global))) {
+  const globals = [
+    'limbBits', 'maxLimbs', 'modulusShifted', 'negInverse', 'lowLimb', 'index', 'indexCapacity', 'slots',
+    'pairLeft', 'pairRight', 'pairDigits', 'pairModulus', 'schedule', 'scheduleCapacity',
+  ] as const;
+  const functions = [e.multiply, e.multiplyOnes];
+  if (!(e.memory instanceof WebAssembly.Memory) || functions.some((f) => typeof f !== 'function') || globals.some((g) => !(e[g] instanceof WebAssembly.Global))) {
     throw new TypeError('createMontgomeryKernel: expected the Montgomery kernel module, got a module without its exports');
   }
   return e as KernelExports;
@@ -114,6 +130,28 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
   words.fill(negInverse, (e.negInverse.value as number) / 4, (e.negInverse.value as number) / 4 + 4);
   words.fill(nLimbs[0]!, (e.lowLimb.value as number) / 4, (e.lowLimb.value as number) / 4 + 4);
 
+  // A modulus with all-ones low limbs, n = h 2^(limbBits m) - 1, takes multiplyOnes: the pairs
+  // (h_j, h_j-1) splatted over the lanes and one schedule entry per group of four columns.
+  const ones = onesLimbs(n, limbBits, limbs);
+  let scheduleEntries = 0;
+  if (ones >= MIN_ONES_LIMBS) {
+    const hLimbs = toLimbs((n + 1n) >> BigInt(limbBits * ones), limbs, limbBits);
+    let highLimbs = limbs;
+    while (highLimbs > 1 && hLimbs[highLimbs - 1] === 0) highLimbs--;
+    const pairsAt = (e.pairModulus.value as number) / 4;
+    for (let j = 0; j <= limbs; j++) {
+      const pair = (hLimbs[j] ?? 0) | ((hLimbs[j - 1] ?? 0) << 16);
+      words.fill(pair, pairsAt + 4 * j, pairsAt + 4 * j + 4);
+    }
+    const areas = { pairLeft: e.pairLeft.value, pairRight: e.pairRight.value, pairDigits: e.pairDigits.value, pairModulus: e.pairModulus.value } as PairAreas;
+    const schedule = onesSchedule(limbs, ones, highLimbs, areas);
+    scheduleEntries = schedule.length / SCHEDULE_ENTRY_WORDS;
+    if (scheduleEntries > (e.scheduleCapacity.value as number)) {
+      throw new RangeError(`createMontgomeryKernel: expected at most ${e.scheduleCapacity.value} column groups, got ${scheduleEntries}`);
+    }
+    new Int32Array(e.memory.buffer).set(schedule, (e.schedule.value as number) / 4);
+  }
+
   const writeValue = (slot: number, value: bigint) => {
     const limbValues = toLimbs(value, limbs, limbBits);
     const at = slotBase + slot * padded;
@@ -135,6 +173,7 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
 
   const kernel: MontgomeryKernel = {
     modulus: n,
+    onesLimbs: scheduleEntries > 0 ? ones : 0,
     get slots() {
       return slots;
     },
@@ -274,7 +313,8 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
           words[indexBase + capacity + i] = left[start]!;
           words[indexBase + 2 * capacity + i] = right[start]!;
         }
-        e.multiply(groups, limbs, slotBytes);
+        if (scheduleEntries > 0) e.multiplyOnes(groups, limbs, slotBytes, scheduleEntries);
+        else e.multiply(groups, limbs, slotBytes);
       }
     },
   };

@@ -10,8 +10,8 @@ export const ANSWER_MEMORY_BUDGET_BYTES = 64 * 2 ** 20;
 
 /** Limb size of the committed Montgomery kernel (scripts/montgomery/generate-kernel.ts). */
 const KERNEL_LIMB_BITS = 13;
-/** The kernel's fixed areas below its slots (modulus, vectors, index arrays): 32 KiB. */
-const KERNEL_FIXED_BYTES = 32768;
+/** The kernel's fixed areas below its slots (modulus, vectors, index arrays, pair arrays): 64 KiB. */
+const KERNEL_FIXED_BYTES = 65536;
 /** getMany's working slots: one for the plain 1 and a chunk of 1,024 outputs. */
 const READOUT_SLOTS = 1 + 1024;
 /** A V8 BigInt: its digits plus a 16-byte header (an estimate, common practice for V8 objects). */

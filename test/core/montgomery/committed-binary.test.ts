@@ -10,11 +10,12 @@ describe('core/montgomery/kernel.wasm', () => {
     expect(Buffer.from(regenerated).equals(Buffer.from(committed))).toBe(true);
   });
 
-  it('has no imports and exports one memory and the multiply function', () => {
+  it('has no imports and exports one memory and the multiply functions', () => {
     const module = new WebAssembly.Module(readFileSync(KERNEL_PATH));
     expect(WebAssembly.Module.imports(module)).toEqual([]);
     const exports = WebAssembly.Module.exports(module);
     expect(exports.filter((e) => e.kind === 'memory').map((e) => e.name)).toEqual(['memory']);
     expect(exports).toContainEqual({ name: 'multiply', kind: 'function' });
+    expect(exports).toContainEqual({ name: 'multiplyOnes', kind: 'function' });
   });
 });
