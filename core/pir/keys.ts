@@ -3,6 +3,7 @@ import { legendre } from '../bigint/jacobi.ts';
 import { randomPrime } from '../bigint/primes.ts';
 import { randomUnit } from '../bigint/random.ts';
 import { assembleKeyPair } from './key-check.ts';
+import { partnerPrime } from './low-ones-modulus.ts';
 import { ALLOWED_MODULUS_BITS, DEFAULT_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
 
 /**
@@ -23,12 +24,18 @@ export interface GenerateKeyPairOptions {
   modulusBits?: number;
   /** 'webcrypto' (default): primes from the platform's RSA key generation; 'own': randomPrime. */
   method?: 'webcrypto' | 'own';
+  /**
+   * true (default): n's low lowOnesBits(modulusBits) bits are all ones (core/pir/low-ones-modulus.ts),
+   * which lets the server answer with about a quarter fewer products; false: p and q unconstrained.
+   */
+  lowOnes?: boolean;
 }
 
 /**
  * A fresh key pair. 'webcrypto' asks crypto.subtle for an RSASSA-PKCS1-v1_5 key of the given
  * length and reads p and q from its JWK export; 'own' draws two primes with randomPrime (much
- * slower in BigInt). Either way n = p*q, p != q and the exact bit length are checked.
+ * slower in BigInt). With lowOnes (the default) only p is kept and q is partnerPrime(p), the prime
+ * that makes n's low half all ones. Either way n = p*q, p != q and the exact bit length are checked.
  * Throws RangeError for a modulus size outside ALLOWED_MODULUS_BITS or an unknown method.
  * Variable-time (runs on the client only).
  */
@@ -38,16 +45,27 @@ export async function generateKeyPair(options: GenerateKeyPairOptions = {}): Pro
   if (!isAllowedModulusBits(modulusBits)) {
     throw new RangeError(`generateKeyPair: expected modulusBits in ${ALLOWED_MODULUS_BITS.join(', ')}, got ${modulusBits}`);
   }
-  let p: bigint;
-  let q: bigint;
-  if (method === 'webcrypto') {
-    [p, q] = await primesFromWebCrypto(modulusBits);
-  } else if (method === 'own') {
-    p = randomPrime(modulusBits / 2);
+  if (method !== 'webcrypto' && method !== 'own') {
+    throw new RangeError(`generateKeyPair: expected method 'webcrypto' or 'own', got ${String(method)}`);
+  }
+  const primes = async (): Promise<[bigint, bigint]> => {
+    if (method === 'webcrypto') return primesFromWebCrypto(modulusBits);
+    const p = randomPrime(modulusBits / 2);
+    let q: bigint;
     do q = randomPrime(modulusBits / 2);
     while (q === p);
-  } else {
-    throw new RangeError(`generateKeyPair: expected method 'webcrypto' or 'own', got ${String(method)}`);
+    return [p, q];
+  };
+  let [p, q] = await primes();
+  if (options.lowOnes ?? true) {
+    for (;;) {
+      const partner = partnerPrime(p, modulusBits);
+      if (partner !== null) {
+        q = partner;
+        break;
+      }
+      [p] = await primes();
+    }
   }
   return assembleKeyPair(p, q, modulusBits, findNonResidue(p, q));
 }

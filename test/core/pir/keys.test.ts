@@ -20,6 +20,9 @@ function isNonResidue(w: bigint, p: bigint): boolean {
   return r === p - 1n;
 }
 
+/** Trailing one bits of n, from jsbn: the lowest set bit of n + 1. */
+const trailingOnes = (n: bigint) => big(n).add(BigInteger.ONE).getLowestSetBit();
+
 function checkKey(key: PirKeyPair, bits: number): void {
   expect(key.modulusBits).toBe(bits);
   expect(key.n).toBe(key.p * key.q);
@@ -35,16 +38,29 @@ function checkKey(key: PirKeyPair, bits: number): void {
 }
 
 describe('generateKeyPair', () => {
-  it('webcrypto, 2048 bits (the default)', async () => {
-    checkKey(await generateKeyPair(), 2048);
+  it('webcrypto, 2048 bits (the default), low 1,008 bits of n all ones', async () => {
+    const key = await generateKeyPair();
+    checkKey(key, 2048);
+    expect(trailingOnes(key.n)).toBeGreaterThanOrEqual(1008); // jsbn
   });
 
-  it('webcrypto, 3072 bits', async () => {
-    checkKey(await generateKeyPair({ modulusBits: 3072, method: 'webcrypto' }), 3072);
+  it('webcrypto, 3072 bits, low 1,520 bits of n all ones', async () => {
+    const key = await generateKeyPair({ modulusBits: 3072, method: 'webcrypto' });
+    checkKey(key, 3072);
+    expect(trailingOnes(key.n)).toBeGreaterThanOrEqual(1520); // jsbn
   });
 
-  it('own prime generator, 2048 bits', async () => {
-    checkKey(await generateKeyPair({ modulusBits: 2048, method: 'own' }), 2048);
+  it('own prime generator, 2048 bits, low 1,008 bits of n all ones', async () => {
+    const key = await generateKeyPair({ modulusBits: 2048, method: 'own' });
+    checkKey(key, 2048);
+    expect(trailingOnes(key.n)).toBeGreaterThanOrEqual(1008); // jsbn
+  });
+
+  it('lowOnes false: p and q as the platform drew them', async () => {
+    const key = await generateKeyPair({ lowOnes: false });
+    checkKey(key, 2048);
+    // A random odd n has t >= 1 trailing ones with probability 2^-(t-1); 64 is never reached by chance.
+    expect(trailingOnes(key.n)).toBeLessThan(64); // jsbn
   });
 
   it('refuses other sizes and methods', async () => {
