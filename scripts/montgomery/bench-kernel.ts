@@ -1,7 +1,8 @@
 /**
  * Side-by-side cost of one modular product at 2048 and 3072 bits, same process, median of 5:
  * BigInt `(a * b) % n`, jsbn multiply + mod, the BigInt Montgomery reference and the SIMD kernel
- * (1,024 independent products, four per kernel pass; rounds of the four methods interleaved). `npx tsx scripts/montgomery/bench-kernel.ts`
+ * on a random modulus and on one whose low half is all ones as generated keys have (1,024
+ * independent products, four per kernel pass; rounds of the five methods interleaved). `npx tsx scripts/montgomery/bench-kernel.ts`
  * prints a table; `benchKernel()` returns the same figures for `npm run bench`.
  */
 import { fileURLToPath } from 'node:url';
@@ -9,6 +10,7 @@ import { BigInteger } from 'jsbn';
 import { randomBelow, randomBits } from '../../core/bigint/random.ts';
 import { createMontgomeryKernel } from '../../core/montgomery/kernel.ts';
 import { bigintMontgomery } from '../../core/montgomery/montgomery-bigint.ts';
+import { lowOnesBits } from '../../core/pir/low-ones-modulus.ts';
 import { loadKernelModuleNode } from './load-kernel-node.ts';
 
 export interface KernelBenchRow {
@@ -18,8 +20,12 @@ export interface KernelBenchRow {
   jsbnNs: number;
   bigintMontgomeryNs: number;
   kernelNs: number;
+  /** the kernel on a modulus of the same size whose low half is all ones, as keys have (multiplyOnes) */
+  kernelLowOnesNs: number;
   /** bigintNs / kernelNs: how many times faster the kernel is than BigInt `(a * b) % n` */
   kernelVsBigint: number;
+  /** bigintNs / kernelLowOnesNs */
+  kernelLowOnesVsBigint: number;
 }
 
 const REPEATS = 5;
@@ -56,26 +62,43 @@ async function benchSize(bits: 2048 | 3072): Promise<KernelBenchRow> {
   const mx = xs.map(ref.toMontgomery);
   const my = ys.map(ref.toMontgomery);
 
-  const kernel = createMontgomeryKernel(await loadKernelModuleNode(bits), n);
-  kernel.ensureSlots(3 * count);
-  xs.forEach((x, i) => kernel.set(i, x));
-  ys.forEach((y, i) => kernel.set(count + i, y));
+  const module = await loadKernelModuleNode(bits);
   const left = Uint32Array.from({ length: count }, (_, i) => i);
   const right = Uint32Array.from({ length: count }, (_, i) => count + i);
   const out = Uint32Array.from({ length: count }, (_, i) => 2 * count + i);
-  // Warm up so the engine's optimising tier has replaced its baseline code.
-  for (let i = 0; i < 30; i++) kernel.multiplyMany(out, left, right, count);
+  /** A kernel for modulus m holding xs and ys reduced mod m, warmed up, and a check of one product. */
+  const kernelFor = (m: bigint) => {
+    const kernel = createMontgomeryKernel(module, m);
+    kernel.ensureSlots(3 * count);
+    xs.forEach((x, i) => kernel.set(i, x % m));
+    ys.forEach((y, i) => kernel.set(count + i, y % m));
+    // Warm up so the engine's optimising tier has replaced its baseline code.
+    for (let i = 0; i < 30; i++) kernel.multiplyMany(out, left, right, count);
+    const check = () => {
+      if (kernel.get(2 * count + 7) !== ((xs[7]! % m) * (ys[7]! % m)) % m) throw new Error('benchKernel: kernel product disagrees with BigInt');
+    };
+    return { run: () => kernel.multiplyMany(out, left, right, count), check, onesLimbs: kernel.onesLimbs };
+  };
+  const general = kernelFor(n);
+  const lowOnes = lowOnesBits(bits);
+  const onesModulus = kernelFor(n | ((1n << BigInt(lowOnes)) - 1n));
+  if (general.onesLimbs !== 0 || onesModulus.onesLimbs === 0) throw new Error('benchKernel: expected the general and the ones path');
 
-  const [bigintNs, jsbnNs, bigintMontgomeryNs, kernelNs] = interleavedMedians([
+  const [bigintNs, jsbnNs, bigintMontgomeryNs, kernelNs, kernelLowOnesNs] = interleavedMedians([
     { items: count, run: () => { for (let i = 0; i < count; i++) sink ^= (xs[i]! * ys[i]!) % n; } },
     { items: jsbnCount, run: () => { for (let i = 0; i < jsbnCount; i++) jx[i]!.multiply(jy[i]!).mod(jn); } },
     { items: count, run: () => { for (let i = 0; i < count; i++) sink ^= ref.multiply(mx[i]!, my[i]!); } },
-    { items: count, run: () => kernel.multiplyMany(out, left, right, count) },
-  ]) as [number, number, number, number];
-  if (kernel.get(2 * count + 7) !== (xs[7]! * ys[7]!) % n) throw new Error('benchKernel: kernel product disagrees with BigInt');
+    { items: count, run: general.run },
+    { items: count, run: onesModulus.run },
+  ]) as [number, number, number, number, number];
+  general.check();
+  onesModulus.check();
   if (sink === -1n) console.log(sink);
 
-  return { bits, bigintNs, jsbnNs, bigintMontgomeryNs, kernelNs, kernelVsBigint: bigintNs / kernelNs };
+  return {
+    bits, bigintNs, jsbnNs, bigintMontgomeryNs, kernelNs, kernelLowOnesNs,
+    kernelVsBigint: bigintNs / kernelNs, kernelLowOnesVsBigint: bigintNs / kernelLowOnesNs,
+  };
 }
 
 /** ns per product at 2048 and 3072 bits for each method, and the kernel's speed-up over BigInt. */
@@ -87,11 +110,14 @@ export async function benchKernel(): Promise<{ rows: KernelBenchRow[] }> {
 export function formatKernelBench(rows: KernelBenchRow[]): string {
   const f = (x: number) => Math.round(x).toLocaleString('en-US');
   const lines = [
-    '| bits | BigInt (a*b)%n | jsbn multiply+mod | BigInt Montgomery | SIMD kernel | kernel vs BigInt |',
-    '|---|---|---|---|---|---|',
+    '| bits | BigInt (a*b)%n | jsbn multiply+mod | BigInt Montgomery | SIMD kernel | kernel vs BigInt | kernel, low half of n ones | vs BigInt |',
+    '|---|---|---|---|---|---|---|---|',
   ];
   for (const r of rows) {
-    lines.push(`| ${r.bits} | ${f(r.bigintNs)} ns | ${f(r.jsbnNs)} ns | ${f(r.bigintMontgomeryNs)} ns | ${f(r.kernelNs)} ns | ${r.kernelVsBigint.toFixed(2)}x |`);
+    lines.push(
+      `| ${r.bits} | ${f(r.bigintNs)} ns | ${f(r.jsbnNs)} ns | ${f(r.bigintMontgomeryNs)} ns | ${f(r.kernelNs)} ns | ${r.kernelVsBigint.toFixed(2)}x | ` +
+        `${f(r.kernelLowOnesNs)} ns | ${r.kernelLowOnesVsBigint.toFixed(2)}x |`,
+    );
   }
   return lines.join('\n');
 }
