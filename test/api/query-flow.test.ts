@@ -44,6 +44,17 @@ describe('upload, build, publish, then a private query through the SDK', () => {
     }
   });
 
+  it('answers keys of both forms in the Worker: low half of n all ones (the default) and unconstrained', async () => {
+    const plainKey = await generateKeyPair({ modulusBits: 2048, lowOnes: false });
+    const point = { lat: 41.7, lon: -71.5 };
+    const brute = Math.min(...sites.map((s) => greatCircleMeters(point.lat, point.lon, s.lat, s.lon)));
+    for (const keyPair of [key, plainKey]) {
+      const client = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair, fetch: (r) => worker(r) });
+      const found = (await client.nearest('ri-zips', point)).results[0]!;
+      expect(Math.abs(found.distanceMeters - brute)).toBeLessThan(3);
+    }
+  });
+
   it('meters answered queries per key, dataset, version and day', async () => {
     const before = await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ n: number }>();
     const client = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair: key, fetch: (r) => worker(r) });
