@@ -4,3 +4,4 @@ export type { SiteRecord } from '../core/details/record-codec.ts';
 export { connectAdmin, type AdminOptions, type VersionInfo } from './admin.ts';
 export { NearveilError } from './http.ts';
 export type { PartitionRoundCost } from './partition-round.ts';
+export { generateKeyPair, type GenerateKeyPairOptions, type PirKeyPair } from '../core/pir/keys.ts';
