@@ -338,22 +338,18 @@ ${[0, 1, 2, 3].map((m) => `        (v128.store (i32.add (local.get $o${m}) (loca
   /** Reads (x address, y address, blocks) of a schedule entry at byte `at`. */
   const scheduled = (at: number) =>
     `        (local.set $px (i32.load offset=${at} (local.get $j))) (local.set $py (i32.load offset=${at + 4} (local.get $j))) (local.set $blocks (i32.load offset=${at + 8} (local.get $j)))`;
+  // Constants the wrapper (core/montgomery/kernel.ts) reads: limb size and byte offsets of the areas.
+  const constants = {
+    limbBits: LIMB_BITS, maxLimbs: MAX_LIMBS, modulusShifted: L.modulusShifted, negInverse: L.negInverse, lowLimb: L.lowLimb,
+    index: L.index, indexCapacity: L.indexCapacity, pairModulus: L.pairModulus, pairLeft: L.pairLeft, pairRight: L.pairRight,
+    pairDigits: L.pairDigits, schedule: L.schedule, scheduleCapacity: L.scheduleCapacity, slots: L.slots,
+  };
+  const globals = Object.entries(constants)
+    .map(([name, value]) => `  (global (export "${name}") i32 (i32.const ${value}))`)
+    .join('\n');
   return `(module
   (memory (export "memory") 1)
-  (global (export "limbBits") i32 (i32.const ${LIMB_BITS}))
-  (global (export "maxLimbs") i32 (i32.const ${MAX_LIMBS}))
-  (global (export "modulusShifted") i32 (i32.const ${L.modulusShifted}))
-  (global (export "negInverse") i32 (i32.const ${L.negInverse}))
-  (global (export "lowLimb") i32 (i32.const ${L.lowLimb}))
-  (global (export "index") i32 (i32.const ${L.index}))
-  (global (export "indexCapacity") i32 (i32.const ${L.indexCapacity}))
-  (global (export "pairModulus") i32 (i32.const ${L.pairModulus}))
-  (global (export "pairLeft") i32 (i32.const ${L.pairLeft}))
-  (global (export "pairRight") i32 (i32.const ${L.pairRight}))
-  (global (export "pairDigits") i32 (i32.const ${L.pairDigits}))
-  (global (export "schedule") i32 (i32.const ${L.schedule}))
-  (global (export "scheduleCapacity") i32 (i32.const ${L.scheduleCapacity}))
-  (global (export "slots") i32 (i32.const ${L.slots}))
+${globals}
   ;; multiply(groups, limbs, slotBytes): for each group g of four lanes, reads slot indices from the
   ;; index area (out, left, right; index -1 is the scratch slot) and writes out = left * right / R.
   (func (export "multiply") (param $groups i32) (param $limbs i32) (param $slotBytes i32)${locals}${groupStart}

@@ -1,44 +1,25 @@
 import fc from 'fast-check';
-import { BigInteger } from 'jsbn';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { createMontgomeryKernel, type MontgomeryKernel } from '../../../core/montgomery/kernel.ts';
+import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
 import { BLOCK_STEPS, MIN_ONES_LIMBS, SCHEDULE_ENTRY_WORDS } from '../../../core/montgomery/ones-schedule.ts';
 import { generateKeyPair } from '../../../core/pir/keys.ts';
 import { LIMB_BITS, PAIR_STEPS, SCHEDULE_ENTRY } from '../../../scripts/montgomery/generate-kernel.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
+import { back, big, jsbnProduct, operand, products } from './kernel-products.ts';
 
 // multiplyOnes: the kernel's path for moduli n = h 2^(13m) - 1. Outside references: native BigInt
 // `(a * b) % n` and jsbn (multiply then mod); every result is compared with one or both.
-const big = (x: bigint) => new BigInteger(x.toString(16), 16);
-const back = (x: BigInteger) => BigInt('0x' + x.toString(16));
-const jsbnProduct = (a: bigint, b: bigint, n: bigint) => back(big(a).multiply(big(b)).mod(big(n)));
 
 let module: WebAssembly.Module;
 beforeAll(async () => {
   module = await loadKernelModuleNode(2048);
 });
 
-/** Runs multiplyMany on the pairs (slots 0..c-1 left, c..2c-1 right, 2c..3c-1 out), returns get(out). */
-function products(k: MontgomeryKernel, pairs: [bigint, bigint][]): bigint[] {
-  const c = pairs.length;
-  k.ensureSlots(3 * c);
-  pairs.forEach(([a, b], i) => {
-    k.set(i, a);
-    k.set(c + i, b);
-  });
-  const idx = (base: number) => Uint32Array.from({ length: c }, (_, i) => base + i);
-  k.multiplyMany(idx(2 * c), idx(0), idx(c), c);
-  return pairs.map((_, i) => k.get(2 * c + i));
-}
-
 /** n of exactly `bits` bits whose low `ones` bits are one and the bit above them zero. */
 const withLowOnes = (top: bigint, bits: number, ones: number) => {
   const low = (1n << BigInt(ones)) - 1n;
   return ((top | (1n << BigInt(bits - 1))) & ~(low | (1n << BigInt(ones)))) | low;
 };
-
-const operand = (n: bigint) =>
-  fc.oneof(fc.constantFrom(0n, 1n, n - 1n, n - 2n), fc.bigInt({ min: 0n, max: n - 1n }), fc.bigInt({ min: n - (1n << 64n), max: n - 1n }));
 
 describe('multiplyOnes schedule and module agree', () => {
   it('uses the module\'s steps per block and entry size', () => {

@@ -1,14 +1,11 @@
 import fc from 'fast-check';
-import { BigInteger } from 'jsbn';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { createMontgomeryKernel, kernelBitsFor, type MontgomeryKernel } from '../../../core/montgomery/kernel.ts';
+import { createMontgomeryKernel, kernelBitsFor } from '../../../core/montgomery/kernel.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
+import { back, big, jsbnProduct, operand, products } from './kernel-products.ts';
 
 // Outside references: native BigInt `(a * b) % n` and jsbn (an independent big-integer library,
 // multiply then mod). Every kernel result below is compared with one or both.
-const big = (x: bigint) => new BigInteger(x.toString(16), 16);
-const back = (x: BigInteger) => BigInt('0x' + x.toString(16));
-const jsbnProduct = (a: bigint, b: bigint, n: bigint) => back(big(a).multiply(big(b)).mod(big(n)));
 
 let module: WebAssembly.Module;
 beforeAll(async () => {
@@ -18,23 +15,6 @@ beforeAll(async () => {
 /** Odd moduli of exactly `bits` bits (top bit set). */
 const oddModulus = (bits: number) =>
   fc.bigInt({ min: 1n << BigInt(bits - 1), max: (1n << BigInt(bits)) - 1n }).map((n) => n | 1n);
-
-/** Operands below n, with the edges 0, 1, n-1, n-2 drawn often. */
-const operand = (n: bigint) =>
-  fc.oneof(fc.constantFrom(0n, 1n, n - 1n, n - 2n), fc.bigInt({ min: 0n, max: n - 1n }), fc.bigInt({ min: n - (1n << 64n), max: n - 1n }));
-
-/** Runs multiplyMany on the pairs (slots 0..c-1 left, c..2c-1 right, 2c..3c-1 out), returns get(out). */
-function products(k: MontgomeryKernel, pairs: [bigint, bigint][]): bigint[] {
-  const c = pairs.length;
-  k.ensureSlots(3 * c);
-  pairs.forEach(([a, b], i) => {
-    k.set(i, a);
-    k.set(c + i, b);
-  });
-  const idx = (base: number) => Uint32Array.from({ length: c }, (_, i) => base + i);
-  k.multiplyMany(idx(2 * c), idx(0), idx(c), c);
-  return pairs.map((_, i) => k.get(2 * c + i));
-}
 
 for (const bits of [2048, 3072] as const) {
   describe(`Montgomery kernel, ${bits}-bit moduli`, () => {
