@@ -12,9 +12,9 @@ export interface ColumnPart {
 }
 
 /**
- * Products per part unless the deployment says otherwise (FANOUT_PRODUCTS_PER_PART): about 5 s
- * of CPU on the kernel at 2048 bits (about 2.5 us a product in `npm run bench`), 12 s at 3072,
- * so no invocation nears the Workers default of 30 s CPU per request
+ * Products per part unless the deployment says otherwise (FANOUT_PRODUCTS_PER_PART): 3-4 s of
+ * CPU on the kernel at 2048 bits (1.5-1.8 us a product in `npm run bench`, the SDK's keys and
+ * others), 6-7 s at 3072, so no invocation nears the Workers default of 30 s CPU per request
  * (developers.cloudflare.com/workers/platform/limits).
  */
 export const DEFAULT_PRODUCTS_PER_PART = 2_000_000;
