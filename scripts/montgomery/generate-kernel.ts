@@ -58,7 +58,7 @@ export const PAIR_STEPS = 2;
 const CHUNK_DOTS = Math.floor((2 ** 32 - 2 ** 23) / (2 * MASK * MASK));
 if ((MAX_LIMBS * 2 * MASK * MASK) / 2 ** LIMB_BITS + MASK >= 2 ** 23 || CHUNK_DOTS < STEPS) throw new Error('limb size leaves no room');
 
-/** Zero vectors around the pair arrays, so blocks rounded up to STEPS read zeros past either end. */
+/** Zero vectors around the pair arrays, so blocks rounded up to PAIR_STEPS read zeros past either end. */
 const PAD = 16;
 /** multiplyOnes schedule entry: k, then (x address, y address, blocks) for the product and the reduction sums. */
 export const SCHEDULE_ENTRY = 32;
