@@ -1,20 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { randomBelow } from '../../../core/bigint/random.ts';
-import { createBitMatrix, setBit, type BitMatrix } from '../../../core/matrix/bit-matrix.ts';
 import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
 import { answerMemory, answerSlots, kernelSlotBytes } from '../../../core/pir/answer-memory.ts';
 import { type AnswerPlan } from '../../../core/pir/answer-plan.ts';
 import { mineMatrix } from '../../../core/pir/mined-plan.ts';
 import { answerWithPlan } from '../../../core/pir/planned-answer.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
-
-function randomMatrix(rows: number, columns: number, density: number, seed: number): BitMatrix {
-  let state = seed >>> 0;
-  const next = () => ((state = (Math.imul(state, 1664525) + 1013904223) >>> 0) / 2 ** 32);
-  const m = createBitMatrix(rows, columns);
-  for (let r = 0; r < rows; r++) for (let c = 0; c < columns; c++) if (next() < density) setBit(m, r, c, 1);
-  return m;
-}
+import { randomMatrix } from './random-matrix.ts';
 
 /** An odd modulus of exactly `bits` bits (the kernel needs no primes to multiply). */
 const oddModulus = (bits: number) => (1n << BigInt(bits - 1)) | randomBelow(1n << BigInt(bits - 2)) | 1n;

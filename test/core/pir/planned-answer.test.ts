@@ -11,15 +11,8 @@ import { mineMatrix } from '../../../core/pir/mined-plan.ts';
 import { createBigIntEngine } from '../../../core/pir/product-engine.ts';
 import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
+import { randomMatrix } from './random-matrix.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
-
-function randomMatrix(rows: number, columns: number, density: number, seed: number): BitMatrix {
-  let state = seed >>> 0;
-  const next = () => ((state = (Math.imul(state, 1664525) + 1013904223) >>> 0) / 2 ** 32);
-  const m = createBitMatrix(rows, columns);
-  for (let r = 0; r < rows; r++) for (let c = 0; c < columns; c++) if (next() < density) setBit(m, r, c, 1);
-  return m;
-}
 
 /** Reference: the row product by jsbn (npm jsbn 1.1.0), one multiply-and-mod per 1-bit. */
 function jsbnRowProducts(m: BitMatrix, values: readonly bigint[], n: bigint): bigint[] {
