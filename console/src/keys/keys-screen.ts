@@ -1,7 +1,7 @@
 import type { KeyInfo } from '../api/nearveil.ts';
 import { currentMonth, formatPrice } from '../cost/tariff.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
-import { bytes, download, errorText, fmt, h, onSubmit, setStatus } from '../ui/dom.ts';
+import { bytes, download, errorText, fmt, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
 import { drawUsageChart } from './usage-chart.ts';
 
 /** API keys (created shown once, revoked) and usage: daily chart, totals, monthly statement. */
@@ -39,7 +39,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       h('h2', {}, 'API keys'),
       form,
       secretBox,
-      h('table', { class: 'plain', id: 'keys-table' }, h('thead', {}, h('tr', {}, ...['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''].map((t) => h('th', { scope: 'col' }, t)))), keysBody),
+      plainTable('keys-table', ['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''], keysBody),
     ),
     h(
       'div',

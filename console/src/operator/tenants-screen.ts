@@ -1,6 +1,6 @@
 import type { NearveilAdmin, TariffPrices, TenantInfo } from '../api/nearveil.ts';
 import { currentMonth, formatPrice, parsePrice } from '../cost/tariff.ts';
-import { download, errorText, fmt, h, onSubmit, setStatus } from '../ui/dom.ts';
+import { download, errorText, fmt, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
 
 /** The tariff's four prices: form label, field, and the unit a price is quoted per. */
 const PRICES: ReadonlyArray<{ field: keyof TariffPrices; label: string; per: string }> = [
@@ -61,7 +61,7 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
       h('p', { class: 'grid-note' }, 'You run nearveil for these providers. Their admins and editors sign in here to edit their own sites; you belong to no tenant, so their data screens are not yours.'),
       tenantForm,
       created,
-      h('table', { class: 'plain', id: 'tenants-table' }, h('thead', {}, h('tr', {}, ...['Tenant', 'Name', 'People', 'Datasets', 'Created', 'Statement'].map((t) => h('th', { scope: 'col' }, t)))), body),
+      plainTable('tenants-table', ['Tenant', 'Name', 'People', 'Datasets', 'Created', 'Statement'], body),
     ),
     h('div', { class: 'panel' }, h('h2', {}, 'Tariff'), tariffForm, tariffNow),
   );

@@ -1,7 +1,7 @@
 import { canAdminister } from '../api/client.ts';
 import type { AuditLine, Role, UserInfo } from '../api/nearveil.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
-import { errorText, h, onSubmit, setStatus } from '../ui/dom.ts';
+import { errorText, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
 
 /** 18 random bytes as base64url: 24 characters, 144 bits (the server asks for at least 12 characters). */
 function randomPassword(): string {
@@ -43,13 +43,13 @@ export function teamScreen(ctx: ConsoleContext): Screen {
       h('p', { class: 'grid-note' }, 'Editors edit, upload and build; admins also publish, roll back, manage keys and people, and read statements and the activity below.'),
       form,
       passwordBox,
-      h('table', { class: 'plain', id: 'users-table' }, h('thead', {}, h('tr', {}, ...['Email', 'Role', 'Added', 'State', ''].map((t) => h('th', { scope: 'col' }, t)))), usersBody),
+      plainTable('users-table', ['Email', 'Role', 'Added', 'State', ''], usersBody),
     ),
     h(
       'div',
       { class: 'panel' },
       h('h2', {}, 'Activity'),
-      h('table', { class: 'plain', id: 'audit-table' }, h('thead', {}, h('tr', {}, ...['When (UTC)', 'Who', 'What', 'Which'].map((t) => h('th', { scope: 'col' }, t)))), auditBody),
+      plainTable('audit-table', ['When (UTC)', 'Who', 'What', 'Which'], auditBody),
       older,
     ),
   );

@@ -18,6 +18,11 @@ export function h<K extends keyof HTMLElementTagNameMap>(tag: K, attrs: Attrs = 
   return el;
 }
 
+/** A plain table: a header row of column names (scope col) and the given body. */
+export function plainTable(id: string, columns: readonly string[], body: HTMLTableSectionElement): HTMLTableElement {
+  return h('table', { class: 'plain', id }, h('thead', {}, h('tr', {}, ...columns.map((t) => h('th', { scope: 'col' }, t)))), body);
+}
+
 /** Sets a status line: plain, good or bad (bad is announced by screen readers as an alert). */
 export function setStatus(el: HTMLElement, text: string, tone: 'plain' | 'good' | 'bad' = 'plain'): void {
   el.textContent = text;

@@ -3,7 +3,7 @@ import type { BuildOptions, VersionInfo } from '../api/nearveil.ts';
 import { csvToSheet } from '../io/csv-sheet.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
-import { errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { errorText, fmt, h, plainTable, setStatus } from '../ui/dom.ts';
 import { diffTables, type TableDiff } from './table-diff.ts';
 
 const LAYOUT_NAMES = { kd: 'adaptive', grid: 'grid', veiled: 'veiled' } as const;
@@ -62,12 +62,7 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
       'div',
       { class: 'panel' },
       h('h2', {}, 'Versions'),
-      h(
-        'table',
-        { class: 'plain', id: 'versions-table' },
-        h('thead', {}, h('tr', {}, ...['Version', 'State', 'Sites', 'Matrix', 'Author', 'Saved', 'Built', 'Published', 'Actions'].map((t) => h('th', { scope: 'col' }, t)))),
-        tableBody,
-      ),
+      plainTable('versions-table', ['Version', 'State', 'Sites', 'Matrix', 'Author', 'Saved', 'Built', 'Published', 'Actions'], tableBody),
     ),
     h(
       'div',
