@@ -1,7 +1,20 @@
 import { bitLength } from '../bigint/bit-length.ts';
 import { jacobi } from '../bigint/jacobi.ts';
 import { InputError } from '../errors/input-error.ts';
-import { ALLOWED_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
+import { ALLOWED_MODULUS_BITS, isAllowedModulusBits, type ModulusBits } from './params.ts';
+
+/**
+ * The size checks of a modulus, shared by queries and modulus proofs; returns its bit length.
+ * Throws InputError `modulus_even` or `modulus_size` (field "modulus", status 400).
+ */
+export function validateModulus(n: bigint): ModulusBits {
+  if ((n & 1n) === 0n) throw new InputError('modulus_even', 'modulus', 'modulus: expected an odd number, got an even one');
+  const bits = bitLength(n);
+  if (!isAllowedModulusBits(bits)) {
+    throw new InputError('modulus_size', 'modulus', `modulus: expected exactly ${ALLOWED_MODULUS_BITS.join(' or ')} bits, got ${bits}`);
+  }
+  return bits;
+}
 
 /**
  * The server's check of a decoded query before answering it. Throws InputError (status 400):
@@ -15,11 +28,7 @@ import { ALLOWED_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
  * checked in far less time than it takes to answer. Variable-time (all inputs are public).
  */
 export function validateQuery(n: bigint, values: readonly bigint[], expectedColumns: number): void {
-  if ((n & 1n) === 0n) throw new InputError('modulus_even', 'modulus', 'modulus: expected an odd number, got an even one');
-  const bits = bitLength(n);
-  if (!isAllowedModulusBits(bits)) {
-    throw new InputError('modulus_size', 'modulus', `modulus: expected exactly ${ALLOWED_MODULUS_BITS.join(' or ')} bits, got ${bits}`);
-  }
+  validateModulus(n);
   if (values.length !== expectedColumns) {
     throw new InputError('value_count', 'values', `values: expected ${expectedColumns} values (one per matrix column), got ${values.length}`);
   }

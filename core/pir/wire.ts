@@ -1,6 +1,7 @@
 import { bitLength } from '../bigint/bit-length.ts';
 import { bigintToBytes, bytesToBigint } from '../bigint/bytes.ts';
 import { InputError } from '../errors/input-error.ts';
+import type { ModulusProof } from '../modulus-proof/modulus-proof.ts';
 
 // Binary bodies of a query and an answer; the layout is documented in WIRE.md next to this file.
 // Header (10 bytes): 3 magic bytes, 1 version byte, u16 k (modulus byte width), u32 count.
@@ -12,6 +13,9 @@ export const WIRE_VERSION = 1;
 export const WIRE_HEADER_BYTES = 10;
 const QUERY_MAGIC = [0x4e, 0x56, 0x51] as const; // "NVQ"
 const ANSWER_MAGIC = [0x4e, 0x56, 0x41] as const; // "NVA"
+const PROOF_MAGIC = [0x4e, 0x56, 0x50] as const; // "NVP"
+/** Big numbers of a modulus proof before its roots: n, c, d. */
+const PROOF_HEAD_NUMBERS = 3;
 const MAX_WIDTH = 0xffff;
 const MAX_COUNT = 0xffffffff;
 
@@ -89,7 +93,9 @@ function wireError(message: string): InputError {
  * Reads and checks a header; returns k and the count. The expected total length is computed from
  * the header and compared with the body length before anything else is allocated.
  */
-function readHeader(bytes: Uint8Array, magic: readonly number[], label: string, extraNumbers: number): { k: number; count: number } {
+const COUNTED = { Query: 'value', Answer: 'row', Proof: 'root' } as const;
+
+function readHeader(bytes: Uint8Array, magic: readonly number[], label: keyof typeof COUNTED, extraNumbers: number): { k: number; count: number } {
   if (!(bytes instanceof Uint8Array)) throw new TypeError(`decode${label}: expected Uint8Array, got ${typeof bytes}`);
   if (bytes.length < WIRE_HEADER_BYTES) {
     throw wireError(`expected at least ${WIRE_HEADER_BYTES} header bytes for a ${label.toLowerCase()}, got ${bytes.length}`);
@@ -103,7 +109,7 @@ function readHeader(bytes: Uint8Array, magic: readonly number[], label: string, 
   const k = view.getUint16(4);
   const count = view.getUint32(6);
   if (k === 0) throw wireError('expected a modulus byte width >= 1, got 0');
-  if (count === 0) throw wireError(`expected a ${label === 'Query' ? 'value' : 'row'} count >= 1, got 0`);
+  if (count === 0) throw wireError(`expected a ${COUNTED[label]} count >= 1, got 0`);
   const expected = WIRE_HEADER_BYTES + k * (count + extraNumbers);
   if (bytes.length !== expected) {
     throw wireError(`expected ${expected} bytes for width ${k} and count ${count}, got ${bytes.length}`);
@@ -132,8 +138,45 @@ export function decodeQuery(bytes: Uint8Array): { n: bigint; values: bigint[] } 
   return { n, values: readNumbers(bytes, WIRE_HEADER_BYTES + k, k, count) };
 }
 
+/**
+ * The modulus of a query body alone, after the same header checks as decodeQuery: the server
+ * checks that the modulus was proven before it reads a single value.
+ */
+export function decodeQueryModulus(bytes: Uint8Array): bigint {
+  const { k } = readHeader(bytes, QUERY_MAGIC, 'Query', 1);
+  return bytesToBigint(bytes.subarray(WIRE_HEADER_BYTES, WIRE_HEADER_BYTES + k));
+}
+
 /** Decodes an answer body; the same checks and errors as decodeQuery. */
 export function decodeAnswer(bytes: Uint8Array): { modulusBytes: number; rows: bigint[] } {
   const { k, count } = readHeader(bytes, ANSWER_MAGIC, 'Answer', 0);
   return { modulusBytes: k, rows: readNumbers(bytes, WIRE_HEADER_BYTES, k, count) };
+}
+
+/** Size in bytes of an encoded modulus proof: header, n, c, d, then one k-byte root per challenge. */
+export function proofByteLength(modulusBits: number, roots: number): number {
+  checkCount('proofByteLength', 'roots', roots);
+  return WIRE_HEADER_BYTES + modulusBytes('proofByteLength', modulusBits) * (roots + PROOF_HEAD_NUMBERS);
+}
+
+/**
+ * Encodes a modulus proof (core/modulus-proof) with k = byte width of n. Throws RangeError when
+ * n < 1, there are no roots, or c, d or a root is negative or does not fit in k bytes.
+ */
+export function encodeModulusProof(proof: ModulusProof): Uint8Array<ArrayBuffer> {
+  const { n, c, d, roots } = proof;
+  if (typeof n !== 'bigint' || n < 1n) throw new RangeError(`encodeModulusProof: expected bigint modulus >= 1, got ${String(n)}`);
+  checkCount('encodeModulusProof', 'root count', roots.length);
+  const k = modulusBytes('encodeModulusProof', bitLength(n));
+  const out = new Uint8Array(WIRE_HEADER_BYTES + k * (roots.length + PROOF_HEAD_NUMBERS));
+  writeHeader(out, PROOF_MAGIC, k, roots.length);
+  writeNumbers(out, WIRE_HEADER_BYTES, k, [n, c, d, ...roots]);
+  return out;
+}
+
+/** Decodes a modulus proof body; the same checks and errors as decodeQuery. Nothing is verified here. */
+export function decodeModulusProof(bytes: Uint8Array): ModulusProof {
+  const { k, count } = readHeader(bytes, PROOF_MAGIC, 'Proof', PROOF_HEAD_NUMBERS);
+  const [n, c, d, ...roots] = readNumbers(bytes, WIRE_HEADER_BYTES, k, count + PROOF_HEAD_NUMBERS);
+  return { n: n!, c: c!, d: d!, roots };
 }

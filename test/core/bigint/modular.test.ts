@@ -15,6 +15,7 @@ describe('modPow', () => {
     // Exponents up to 1100 bits: every window width (1, 4 and 5 bits) is taken.
     fc.assert(fc.property(nonNeg, fc.bigInt({ min: 0n, max: 1n << 1100n }), modulus, (b, e, n) => modPow(b, e, n) === back(big(b).modPow(big(e), big(n)))), {
       numRuns: 300,
+      seed: 20261203,
     });
   });
 

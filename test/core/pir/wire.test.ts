@@ -4,9 +4,13 @@ import { InputError } from '../../../core/errors/input-error.ts';
 import {
   answerByteLength,
   decodeAnswer,
+  decodeModulusProof,
   decodeQuery,
+  decodeQueryModulus,
   encodeAnswer,
+  encodeModulusProof,
   encodeQuery,
+  proofByteLength,
   queryByteLength,
 } from '../../../core/pir/wire.ts';
 
@@ -105,5 +109,30 @@ describe('malformed bodies are wire_format errors', () => {
   it('a header claiming far more data than the body holds is refused before any allocation', () => {
     const huge = Uint8Array.from([0x4e, 0x56, 0x41, 1, 0xff, 0xff, 0xff, 0xff, 0xff, 0xff, 1, 2, 3]);
     expect(wireError(() => decodeAnswer(huge)).message).toBe(`body: expected ${10 + 65535 * 4294967295} bytes for width 65535 and count 4294967295, got 13`);
+  });
+});
+
+describe('modulus proof bodies (WIRE.md, "Modulus proof body")', () => {
+  const proof = { n, c: 3n, d: n - 2n, roots: [1n, 0x0203n] };
+
+  it('writes NVP, the root count, then n, c, d and the roots', () => {
+    const body = encodeModulusProof(proof);
+    expect(Array.from(body.subarray(0, 10))).toEqual([0x4e, 0x56, 0x50, 1, 0x01, 0x00, 0, 0, 0, 2]);
+    expect(body.length).toBe(proofByteLength(2048, 2));
+    expect(body.length).toBe(10 + 256 * 5);
+    expect(Array.from(body.subarray(body.length - 2))).toEqual([2, 3]);
+    expect(decodeModulusProof(body)).toEqual(proof);
+  });
+
+  it('refuses a query or an answer given as a proof, and a truncated proof', () => {
+    wireError(() => decodeModulusProof(encodeQuery(n, values)));
+    wireError(() => decodeModulusProof(encodeAnswer(256, values)));
+    wireError(() => decodeModulusProof(encodeModulusProof(proof).subarray(0, 10 + 256 * 4)));
+    wireError(() => decodeQuery(encodeModulusProof(proof)));
+  });
+
+  it('reads the modulus of a query without its values, with the same header checks', () => {
+    expect(decodeQueryModulus(encodeQuery(n, values))).toBe(n);
+    wireError(() => decodeQueryModulus(encodeQuery(n, values).subarray(0, 300)));
   });
 });
