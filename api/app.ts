@@ -12,6 +12,7 @@ import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
 import { usageRoutes } from './metering/usage-routes.ts';
+import { modulusRoutes } from './moduli/modulus-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
 import { referenceRoutes } from './reference/reference-routes.ts';
 
@@ -32,6 +33,7 @@ export const app = new Hono<AppBindings>()
   .route('/v1/operator', tenantRoutes)
   .route('/v1/admin', statementRoutes)
   .route('/v1/operator', tariffRoutes)
+  .route('/v1', modulusRoutes)
   .route('/v1', publicRoutes)
   .notFound((c) => c.json(errorBody('route_unknown', `no route for ${c.req.method} ${new URL(c.req.url).pathname}`), 404))
   .onError(handleError);

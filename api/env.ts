@@ -16,6 +16,11 @@ export interface Env {
   readonly VERSION_GRACE_SECONDS?: string;
   /** ISO 4217 code of the currency tariffs and statements are in (default EUR). */
   readonly BILLING_CURRENCY?: string;
+  /** Days a proven modulus stays registered (default 30); clients rotate their keys sooner. */
+  readonly MODULUS_LIFETIME_DAYS?: string;
+  /** Modulus proofs checked per API key and UTC hour (default 600), and of those refused (default 20). */
+  readonly MODULUS_PROOFS_PER_HOUR?: string;
+  readonly MODULUS_REFUSED_PROOFS_PER_HOUR?: string;
 }
 
 /** Per-request values set by the credential and principal middleware (api/auth). */

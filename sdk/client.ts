@@ -2,13 +2,15 @@ import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
 import { locateRegion } from '../core/geo/locate.ts';
 import { ManifestSchema, MAX_K, type Manifest } from '../core/geo/manifest.ts';
 import { decodeRows } from '../core/pir/decode.ts';
-import { generateKeyPair, type PirKeyPair } from '../core/pir/keys.ts';
+import type { PirKeyPair } from '../core/pir/keys.ts';
 import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
 import { makeQuery } from '../core/pir/query.ts';
 import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
 import type { SiteRecord } from '../core/details/record-codec.ts';
+import { checkKeyLifetime, memoryKeyStore, type ClientKeyStore, type KeyLifetime } from './client-key.ts';
 import { fetchRecords, memorySealedCache, type DetailsCost, type SealedFileCache } from './details-round.ts';
 import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
+import { keyKeeper, type KeyReadyCost } from './key-keeper.ts';
 import { fetchCellRecord, type PartitionRoundCost } from './partition-round.ts';
 
 export interface ConnectOptions {
@@ -17,7 +19,14 @@ export interface ConnectOptions {
   apiKey: string;
   /** 2048 (default) or 3072. */
   modulusBits?: number;
-  /** A key pair kept from an earlier session; otherwise one is generated on first use. */
+  /**
+   * Where the client keeps its key between runs (default: memory). A key is made and proven on
+   * first use, registered once with the server, and replaced after `keyLifetime`.
+   */
+  keyStore?: ClientKeyStore;
+  /** When a key is replaced: after `days` or `queries`, whichever comes first (default 7 days, 1,000 queries). */
+  keyLifetime?: Partial<KeyLifetime>;
+  /** A key pair made elsewhere, used for every query as it is and never replaced (keyStore and keyLifetime are then ignored). */
   keyPair?: PirKeyPair;
   fetch?: FetchLike;
   /** Where sealed files are kept between calls (default: in memory, the last two versions). */
@@ -51,6 +60,11 @@ export interface QueryCost extends PartitionRoundCost {
    * matrixOnes stay the cell matrix's.
    */
   partition?: PartitionRoundCost;
+  /**
+   * Only when this call had to make, prove or register its key first (a new client, or a key
+   * past its lifetime): what that cost. The proof is sent once per key and server.
+   */
+  keySetup?: KeyReadyCost;
 }
 
 export interface NearestResult {
@@ -63,18 +77,27 @@ export interface NearestResult {
 export interface NearveilClient {
   nearest(dataset: string, point: { lat: number; lon: number }, options?: NearestOptions): Promise<NearestResult>;
   manifest(dataset: string): Promise<Manifest>;
+  /** The key pair queries use now (made, proven and registered first when needed). */
   keyPair(): Promise<PirKeyPair>;
+  /** Drops the stored key: the next query makes, proves and registers a new one. */
+  forgetKey(): Promise<void>;
 }
 
 /**
- * Connects to a nearveil API. The key pair is generated once per client (it is the costly
- * part of the client's work) and reused for every query; each query is still fresh.
+ * Connects to a nearveil API. The key pair is the costly part of the client's work: it is made
+ * and proven once, registered once with the server (POST /v1/moduli: the server answers only
+ * proven moduli), and reused for every query until its lifetime ends; each query is still fresh.
  */
 export function connect(options: ConnectOptions): NearveilClient {
   const http = { endpoint: options.endpoint, secret: options.apiKey, ...(options.fetch ? { fetch: options.fetch } : {}) };
   const modulusBits = options.keyPair?.modulusBits ?? options.modulusBits ?? DEFAULT_MODULUS_BITS;
-  let keys: Promise<PirKeyPair> | undefined = options.keyPair ? Promise.resolve(options.keyPair) : undefined;
-  const keyPair = () => (keys ??= generateKeyPair({ modulusBits }));
+  const keys = keyKeeper({
+    http,
+    modulusBits,
+    store: options.keyPair ? memoryKeyStore() : (options.keyStore ?? memoryKeyStore()),
+    lifetime: checkKeyLifetime(options.keyLifetime),
+    ...(options.keyPair ? { fixedKey: options.keyPair } : {}),
+  });
   const sealedCache = options.sealedCache ?? memorySealedCache();
 
   async function manifest(dataset: string): Promise<Manifest> {
@@ -90,7 +113,11 @@ export function connect(options: ConnectOptions): NearveilClient {
     if (!(m.modulusBits as readonly number[]).includes(modulusBits)) {
       throw new NearveilError(0, 'modulus_size', `dataset "${dataset}" accepts ${m.modulusBits.join(' or ')}-bit keys, not ${modulusBits}`);
     }
-    const key = await keyPair();
+    const ready = await keys.ready();
+    const key = ready.entry.key;
+    // Every round below is one query with this key, counted for its lifetime even when one fails.
+    const rounds = 1 + (m.layout.kind === 'veiled' ? 1 : 0) + (wanted.details ? k : 0);
+    await keys.used(ready.entry, rounds);
     // A veiled layout publishes no partition: its coarse cell's record comes from a first private round.
     const first = m.layout.kind === 'veiled' ? await fetchCellRecord(http, dataset, m, key, point) : undefined;
     const region = locateRegion(m, point.lat, point.lon, first?.record);
@@ -133,13 +160,15 @@ export function connect(options: ConnectOptions): NearveilClient {
         clientMs,
         ...(details ? { details: details.cost } : {}),
         ...(first ? { partition: first.cost } : {}),
+        ...(ready.cost ? { keySetup: ready.cost } : {}),
       },
     };
   }
 
   return {
     manifest,
-    keyPair,
+    keyPair: async () => (await keys.ready()).entry.key,
+    forgetKey: () => keys.forget(),
     async nearest(dataset, point, wanted = {}) {
       const k = wanted.k ?? 1;
       if (!Number.isSafeInteger(k) || k < 1 || k > MAX_K) throw new RangeError(`nearest: expected k in 1..${MAX_K}, got ${wanted.k}`);
@@ -148,6 +177,11 @@ export function connect(options: ConnectOptions): NearveilClient {
       } catch (err) {
         // A version published between our manifest read and our query: read again, once.
         if (err instanceof NearveilError && err.code === 'version_not_served') return nearestOnce(dataset, point, k, wanted);
+        // The server forgot our modulus (its registration expired, or its database is new): register again, once.
+        if (err instanceof NearveilError && err.code === 'modulus_unproven') {
+          await keys.unregistered();
+          return nearestOnce(dataset, point, k, wanted);
+        }
         throw err;
       }
     },

@@ -223,3 +223,31 @@ export const tariffs = sqliteTable(
   },
   (t) => [primaryKey({ columns: [t.tenantId, t.fromMonth] })],
 );
+
+/**
+ * Moduli proven to leave at most one bit per answer row (core/modulus-proof), by SHA-256 of the
+ * modulus in its wire bytes. Only the hash is kept, never which key or tenant registered it, so
+ * the table links no modulus to an app. A row is removed after expires_at (milliseconds since the
+ * epoch, MODULUS_LIFETIME_DAYS after registration); clients rotate their keys well before.
+ */
+export const provenModuli = sqliteTable('proven_moduli', {
+  modulusSha256: text('modulus_sha256').primaryKey(),
+  modulusBits: integer('modulus_bits').notNull(),
+  registeredAt: integer('registered_at').notNull(),
+  expiresAt: integer('expires_at').notNull(),
+});
+
+/**
+ * Modulus proofs checked per API key and UTC hour ("2026-12-03T10"), for the per-key limits on
+ * registrations (api/moduli/registration-limit.ts): every proof checked, and those refused.
+ */
+export const modulusRegistrations = sqliteTable(
+  'modulus_registrations',
+  {
+    credentialId: text('credential_id').notNull().references(() => credentials.id),
+    hour: text('hour').notNull(),
+    checked: integer('checked').notNull().default(0),
+    refused: integer('refused').notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.credentialId, t.hour] })],
+);

@@ -3,8 +3,8 @@ import type { PlanRecord } from '../../core/geo/manifest.ts';
 import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../../core/pir/fan-out.ts';
 import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
 import { answerWithPlan } from '../../core/pir/planned-answer.ts';
-import { validateQuery } from '../../core/pir/validate.ts';
-import { decodeQuery, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import { validateModulus, validateQuery } from '../../core/pir/validate.ts';
+import { decodeQuery, decodeQueryModulus, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
 import type { Database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
@@ -12,6 +12,7 @@ import { readLimitedBytes } from '../http/body-limit.ts';
 import { secondsToNextMonth, utcMonth } from '../metering/calendar.ts';
 import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
+import { requireProvenModulus } from '../moduli/proven-moduli.ts';
 import { answerByParts } from './fanned-answer.ts';
 import { productEngine } from './product-engine.ts';
 import { answerPlanFor, loadMatrix } from './version-cache.ts';
@@ -41,6 +42,10 @@ export async function answerColumnQuery(
   // The exact size a query on this matrix can have, checked as the body streams in.
   const body = await readLimitedBytes(c.req.raw, largest);
   const started = performance.now();
+  // Only a proven modulus leaves one bit per answer row (core/modulus-proof): checked first.
+  const modulus = decodeQueryModulus(body);
+  validateModulus(modulus);
+  await requireProvenModulus(db, modulus);
   const { n, values } = decodeQuery(body);
   validateQuery(n, values, target.columns);
   // The quota slot is taken only for a well-formed query, and given back if no answer goes out.

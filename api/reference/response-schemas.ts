@@ -138,3 +138,12 @@ export const UsageReport = z
     days: z.array(z.object({ day: z.string(), ...usageCounts })),
   })
   .meta({ id: 'UsageReport' });
+
+export const ProvenModulus = z
+  .object({
+    sha256: z.string().describe("SHA-256 of the modulus's wire bytes, the only thing the server keeps of it"),
+    bits: z.number().int(),
+    registeredAt: z.string(),
+    expiresAt: z.string().describe('the registration is forgotten then (MODULUS_LIFETIME_DAYS); rotate keys sooner'),
+  })
+  .meta({ id: 'ProvenModulus' });

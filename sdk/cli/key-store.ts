@@ -1,23 +1,55 @@
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync, rmSync } from 'node:fs';
 import { join } from 'node:path';
 import { keyPairFromJson, keyPairToJson } from '../../core/pir/key-json.ts';
-import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import { decodeModulusProof } from '../../core/pir/wire.ts';
+import type { ClientKeyStore, StoredClientKey } from '../client-key.ts';
 import { writePrivateJson } from './dev-home.ts';
 
 /**
- * The CLI is one client: its key pair is generated on first use and kept (mode 0600) so later
- * queries skip key generation. The key never leaves this machine.
+ * The CLI is one client: its key, the key's proof and where it is registered are kept in
+ * `<home>/client-key-<bits>.json` (mode 0600), so later queries skip making, proving and
+ * registering a key until its lifetime ends. The key never leaves this machine; only the proof
+ * (which holds the modulus, not its factors) is sent. A file that does not read back whole
+ * (damaged, or from before keys had proofs) is replaced by a new key: it holds no data worth keeping.
  */
-export async function loadOrCreateKeyPair(home: string, modulusBits: number): Promise<PirKeyPair> {
-  const path = join(home, `client-key-${modulusBits}.json`);
-  if (existsSync(path)) {
-    try {
-      return keyPairFromJson(JSON.parse(readFileSync(path, 'utf8')));
-    } catch {
-      // A damaged key file is replaced: the key holds no data worth keeping.
-    }
-  }
-  const key = await generateKeyPair({ modulusBits });
-  writePrivateJson(path, keyPairToJson(key));
-  return key;
+export function diskKeyStore(home: string): ClientKeyStore {
+  const path = (bits: number) => join(home, `client-key-${bits}.json`);
+  return {
+    async load(bits) {
+      if (!existsSync(path(bits))) return null;
+      try {
+        return fromJson(JSON.parse(readFileSync(path(bits), 'utf8')));
+      } catch {
+        return null;
+      }
+    },
+    async save(entry) {
+      writePrivateJson(path(entry.key.modulusBits), toJson(entry));
+    },
+    async remove(bits) {
+      rmSync(path(bits), { force: true });
+    },
+  };
+}
+
+function toJson(entry: StoredClientKey) {
+  return {
+    format: 2,
+    key: keyPairToJson(entry.key),
+    createdAt: new Date(entry.createdAt).toISOString(),
+    queries: entry.queries,
+    proof: Buffer.from(entry.proof).toString('base64'),
+    registrations: Object.fromEntries(Object.entries(entry.registrations).map(([server, until]) => [server, new Date(until).toISOString()])),
+  };
+}
+
+function fromJson(json: ReturnType<typeof toJson>): StoredClientKey {
+  if (json.format !== 2) throw new RangeError(`client key: expected format 2, got ${String(json.format)}`);
+  const key = keyPairFromJson(json.key);
+  const proof = new Uint8Array(Buffer.from(json.proof, 'base64'));
+  if (decodeModulusProof(proof).n !== key.n) throw new RangeError('client key: the stored proof is for another modulus');
+  const createdAt = Date.parse(json.createdAt);
+  if (!Number.isFinite(createdAt) || !Number.isSafeInteger(json.queries) || json.queries < 0) throw new RangeError('client key: bad createdAt or queries');
+  const registrations = Object.fromEntries(Object.entries(json.registrations ?? {}).map(([server, until]) => [server, Date.parse(until)]));
+  return { key, createdAt, queries: json.queries, proof, registrations };
 }

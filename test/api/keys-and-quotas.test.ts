@@ -1,10 +1,10 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import type { PirKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
 import { hashSecret } from '../../api/auth/secrets.ts';
-import { adminRequest, BASE, createTestTenant, publishDataset, worker, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, BASE, createTestTenant, publishDataset, registeredKey, type TestTenant, worker } from './tenant-fixture.ts';
 import { tinyZipCsv } from './open-data-sites.ts';
 
 interface CreatedKey { id: string; secret: string; label: string; datasets: string[] | null; monthlyQuota: number | null }
@@ -28,7 +28,7 @@ describe('API keys: shown once, stored hashed, scoped to datasets, with monthly 
     t = await createTestTenant();
     await publishDataset(t, 'quota-a', tinyZipCsv(5));
     await publishDataset(t, 'quota-b', tinyZipCsv(4));
-    pir = await generateKeyPair({ modulusBits: 2048 });
+    pir = await registeredKey(t);
     const manifest = (await (await asKey(t.apiKey, 'GET', '/v1/datasets/quota-a/manifest')).json()) as { matrix: { columns: number } };
     columns = manifest.matrix.columns;
   });

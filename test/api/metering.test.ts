@@ -1,10 +1,10 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
-import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
+import type { PirKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
 import { monthDays, secondsToNextMonth } from '../../api/metering/calendar.ts';
-import { adminRequest, appRequest, createTestTenant, publishDataset, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, appRequest, createTestTenant, publishDataset, registeredKey, type TestTenant } from './tenant-fixture.ts';
 import { tinyZipCsv } from './open-data-sites.ts';
 
 interface UsageBody {
@@ -23,7 +23,7 @@ describe('metering: exact under concurrency, refusals counted apart', () => {
   beforeAll(async () => {
     t = await createTestTenant();
     await publishDataset(t, 'meter-tiny', tinyZipCsv(6));
-    pir = await generateKeyPair({ modulusBits: 2048 });
+    pir = await registeredKey(t);
     const manifest = (await (await appRequest(t, 'GET', '/v1/datasets/meter-tiny/manifest')).json()) as { matrix: { columns: number; plan: { products: number } } };
     columns = manifest.matrix.columns;
     products = manifest.matrix.plan.products;

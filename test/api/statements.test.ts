@@ -1,10 +1,9 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { formatMicros, lineAmount } from '../../api/billing/money.ts';
-import { generateKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
-import { adminRequest, appRequest, createTestTenant, publishDataset, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, appRequest, createTestTenant, publishDataset, type TestTenant, registeredKey } from './tenant-fixture.ts';
 import { tinyZipCsv } from './open-data-sites.ts';
 import { createTestUser, jsonRequest, sessionRequest, signIn } from './user-fixture.ts';
 
@@ -36,7 +35,7 @@ describe('monthly statements: tariffs applied to the daily counts', () => {
   beforeAll(async () => {
     t = await createTestTenant();
     await publishDataset(t, 'billed', tinyZipCsv(6));
-    const key = await generateKeyPair({ modulusBits: 2048 });
+    const key = await registeredKey(t);
     const manifest = (await (await appRequest(t, 'GET', '/v1/datasets/billed/manifest')).json()) as { matrix: { columns: number } };
     for (let i = 0; i < 13; i++) {
       const res = await appRequest(t, 'POST', '/v1/datasets/billed/versions/1/query', encodeQuery(key.n, makeQuery(key, manifest.matrix.columns, 0)));

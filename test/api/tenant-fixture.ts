@@ -1,6 +1,9 @@
 import { env } from 'cloudflare:test';
 import { exports } from 'cloudflare:workers';
 import { hashSecret, newSecret } from '../../api/auth/secrets.ts';
+import { proveModulus } from '../../core/modulus-proof/prove-modulus.ts';
+import { generateKeyPair, type GenerateKeyPairOptions, type PirKeyPair } from '../../core/pir/keys.ts';
+import { encodeModulusProof } from '../../core/pir/wire.ts';
 
 export const BASE = 'http://nearveil.test';
 
@@ -96,4 +99,16 @@ export async function storedState(): Promise<string> {
   const rows = await Promise.all(tables.map((t) => env.DB.prepare(`SELECT * FROM ${t} ORDER BY 1, 2`).all()));
   const blobs = await env.BLOBS.list();
   return JSON.stringify({ rows: rows.map((r) => r.results), blobs: blobs.objects.map((o) => `${o.key}:${o.size}`) });
+}
+
+/** Proves a client key's modulus and registers it (POST /v1/moduli), as the SDK does before its first query. */
+export async function registerKey(t: TestTenant, key: PirKeyPair): Promise<PirKeyPair> {
+  const res = await appRequest(t, 'POST', '/v1/moduli', encodeModulusProof(proveModulus(key)));
+  if (res.status !== 201 && res.status !== 200) throw new Error(`modulus not registered: ${res.status} ${await res.text()}`);
+  return key;
+}
+
+/** A new client key whose modulus the server answers (generated, proven, registered). */
+export async function registeredKey(t: TestTenant, options: GenerateKeyPairOptions = {}): Promise<PirKeyPair> {
+  return registerKey(t, await generateKeyPair({ modulusBits: 2048, ...options }));
 }

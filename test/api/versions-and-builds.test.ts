@@ -11,7 +11,7 @@ import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
 import { makeQuery } from '../../core/pir/query.ts';
 import { encodeQuery } from '../../core/pir/wire.ts';
 import { connect } from '../../sdk/client.ts';
-import { adminRequest, appRequest, BASE, buildAndWait, createTestTenant, publishDataset, waitForVersion, worker, type TestTenant, type VersionBody } from './tenant-fixture.ts';
+import { adminRequest, appRequest, BASE, buildAndWait, createTestTenant, publishDataset, registeredKey, waitForVersion, worker, type TestTenant, type VersionBody } from './tenant-fixture.ts';
 import { rhodeIslandZipCsv, tinyZipCsv } from './open-data-sites.ts';
 
 const apiEnv = env as unknown as Env;
@@ -125,7 +125,7 @@ describe('publish and rollback switch the active version atomically; old version
 
   beforeAll(async () => {
     t = await createTestTenant();
-    key = await generateKeyPair({ modulusBits: 2048 });
+    key = await registeredKey(t);
   });
 
   it('loses no query while a rollback runs, retires the old version after its grace and collects its blobs', async () => {

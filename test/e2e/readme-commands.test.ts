@@ -57,10 +57,14 @@ describe('README commands', () => {
     for (const s of sites) index.add(s.lon, s.lat);
     index.finish();
     // Points in town centres, between towns and outside the region.
-    for (const [lat, lon] of [[45.62, -111.42], [45.3, -111.8], [46.3, -113.2], [44.7, -110.4]] as const) {
+    for (const [i, [lat, lon]] of ([[45.62, -111.42], [45.3, -111.8], [46.3, -113.2], [44.7, -110.4]] as const).entries()) {
       const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', String(lat), '--lon', String(lon), '--json']);
       expect(run.stderr + run.stdout).toMatch(/"results"/);
-      const out = JSON.parse(run.stdout) as { results: Array<{ id: string; distanceMeters: number }>; cost: Record<string, number> };
+      const out = JSON.parse(run.stdout) as { results: Array<{ id: string; distanceMeters: number }>; cost: Record<string, number> & { keySetup?: Record<string, number> } };
+      // The first run makes, proves and registers this machine's key; later runs (new processes) reuse it.
+      if (i === 0) expect(out.cost.keySetup).toMatchObject({ proofBytes: 29_450 });
+      else expect(out.cost.keySetup).toBeUndefined();
+      delete out.cost.keySetup;
       const brute = Math.min(...sites.map((s) => greatCircleMeters(lat, lon, s.lat, s.lon)));
       expect(Math.abs(out.results[0]!.distanceMeters - brute)).toBeLessThan(3);
       // geokdbush (npm) as an outside reference for which site is nearest.

@@ -1,6 +1,7 @@
+import { DEFAULT_KEY_LIFETIME } from '../../client-key.ts';
 import { connect, type NearestResult } from '../../client.ts';
 import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
-import { loadOrCreateKeyPair } from '../key-store.ts';
+import { diskKeyStore } from '../key-store.ts';
 import { MAX_K } from '../../../core/geo/manifest.ts';
 import { diskSealedCache } from '../sealed-store.ts';
 import { connectionOptions, degrees, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
@@ -14,6 +15,9 @@ export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--
   --details          also fetch the site's full record (every column) in a second private round;
                      the version's sealed file is downloaded once and kept in .nearveil/sealed/
   --json             print one JSON object
+  --key-days D, --key-queries Q   replace this machine's client key after D days or Q queries
+                     (default ${DEFAULT_KEY_LIFETIME.days} and ${DEFAULT_KEY_LIFETIME.queries}): the server can link the queries of one key,
+                     never their points; a new key is proven and registered once (about 1 s)
   --endpoint URL, --api-key KEY   override the dev credentials`;
 
 export async function queryCommand(args: string[], print: (line: string) => void): Promise<void> {
@@ -24,16 +28,28 @@ export async function queryCommand(args: string[], print: (line: string) => void
     lon: { type: 'string' },
     k: { type: 'string' },
     details: { type: 'boolean', default: false },
+    'key-days': { type: 'string' },
+    'key-queries': { type: 'string' },
   });
   if (values.help) return print(QUERY_HELP);
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to ask');
   const lat = degrees(values.lat, '--lat', -90, 90);
   const lon = degrees(values.lon, '--lon', -180, 180);
   const k = integerFlag(values.k, '--k', 1, MAX_K, 1);
+  const keyLifetime = {
+    days: integerFlag(values['key-days'], '--key-days', 1, 365, DEFAULT_KEY_LIFETIME.days),
+    queries: integerFlag(values['key-queries'], '--key-queries', 1, 1_000_000, DEFAULT_KEY_LIFETIME.queries),
+  };
   const conn = resolveConnection(values);
   const apiKey = requireString(conn.apiKey, '--api-key', 'pass one, or run `npm start` once to write dev credentials');
-  const keyPair = await loadOrCreateKeyPair(conn.home, DEFAULT_MODULUS_BITS);
-  const client = connect({ endpoint: conn.endpoint, apiKey, keyPair, sealedCache: diskSealedCache(conn.home) });
+  const client = connect({
+    endpoint: conn.endpoint,
+    apiKey,
+    modulusBits: DEFAULT_MODULUS_BITS,
+    keyStore: diskKeyStore(conn.home),
+    keyLifetime,
+    sealedCache: diskSealedCache(conn.home),
+  });
   const result = await client.nearest(dataset, { lat, lon }, { k, details: values.details });
   print(values.json ? JSON.stringify(jsonView(result)) : textView(result));
 }
@@ -75,9 +91,19 @@ function textView(r: NearestResult): string {
             (c.details.sealedBytes > 0 ? `sealed file ${kib(c.details.sealedBytes)} downloaded (once per version)` : 'sealed file kept from before'),
         ]
       : []),
+    ...(c.keySetup ? [keySetupLine(c.keySetup)] : []),
     'Straight-line distance, not travel time. Data can be out of date. In an emergency call your local emergency number.',
   );
   return lines.join('\n');
+}
+
+function keySetupLine(s: NonNullable<NearestResult['cost']['keySetup']>): string {
+  const parts = [
+    s.generateMs === undefined ? null : `made in ${s.generateMs.toFixed(0)} ms`,
+    s.proveMs === undefined ? null : `proven in ${s.proveMs.toFixed(0)} ms (proof ${kib(s.proofBytes ?? 0)})`,
+    s.registerMs === undefined ? null : `registered with the server in ${s.registerMs.toFixed(0)} ms`,
+  ].filter(Boolean);
+  return `Client key: ${parts.join(', ')}; this happens once per key.`;
 }
 
 const formatMeters = (m: number) => (m < 1000 ? `${m.toFixed(0)} m` : `${(m / 1000).toFixed(2)} km`);
