@@ -58,7 +58,7 @@ export function costScreen(ctx: ConsoleContext): Screen {
         ...cost.bytes.map((b): [string, string] => [`Bytes per query, ${b.modulusBits}-bit key`, `${bytes(b.up)} up, ${bytes(b.down)} down (${bytes(b.up + b.down)} in all)`]),
         ['Server work per query', `${fmt.format(cost.products)} modular products (answer plan: ${cost.plan}; plain would be ${fmt.format(cost.plainProducts)})`],
         ['Rows the app decodes', fmt.format(cost.decodedRows)],
-        ['Queries that would read the whole matrix', `${fmt.format(cost.queriesForWholeMatrix)} (one per column: each query reveals one column, never more)`],
+        ['Queries that would read the whole matrix', `${fmt.format(cost.queriesForWholeMatrix)} (one per column: the server answers only keys proven to leave one bit per answer row, so a query reveals at most one column's worth, however an app builds its key)`],
       ];
       if (tariff) {
         // Priced as the monthly statement bills it: the smallest key's bytes, the metered products.

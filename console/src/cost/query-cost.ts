@@ -13,7 +13,10 @@ export interface QueryCost {
   /** Products the meter counts per query (the plan's, not the blinding's): what the statement bills. */
   billedProducts: number;
   plainProducts: number;
-  /** Each query reveals one column: this many queries could read the whole matrix. */
+  /**
+   * Each query reveals at most one column's worth of bits (the server answers only proven moduli,
+   * core/modulus-proof): this many queries could read the whole matrix.
+   */
   queriesForWholeMatrix: number;
   /** Regions a client decodes rows of: one. Rows decoded per query. */
   decodedRows: number;
