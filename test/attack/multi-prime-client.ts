@@ -11,17 +11,12 @@ import { squareRootsModulo } from '../../core/bigint/sqrt-mod-prime.ts';
 import { deriveChallenges } from '../../core/modulus-proof/challenges.ts';
 import type { ModulusProof } from '../../core/modulus-proof/modulus-proof.ts';
 import { PROOF_CHALLENGES } from '../../core/modulus-proof/modulus-proof.ts';
+import { seededRandom } from '../../scripts/demo/seeded-random.ts';
 
-/** A seeded stream of 32-bit words (mulberry32, a public-domain generator; common practice). */
+/** A seeded stream of 32-bit words (the demo data's mulberry32, scaled back to integers). */
 function words(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return (t ^ (t >>> 14)) >>> 0;
-  };
+  const next = seededRandom(seed);
+  return () => next() * 2 ** 32;
 }
 
 /**
