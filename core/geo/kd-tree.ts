@@ -18,6 +18,13 @@ export interface UnitKdTree {
   readonly ids: Int32Array;
   /** Split axis (0, 1, 2) of the node whose median is position i. */
   readonly axis: Uint8Array;
+  /**
+   * Bounding box of the node whose median is position i (nodes of more than LEAF points):
+   * min x, y, z at 6i .. 6i + 2 and max x, y, z at 6i + 3 .. 6i + 5. Searches bound a node by
+   * its box, not by its parent's split plane alone: a plane through a far cluster can pass close
+   * to the query point, the box cannot (clustered tables made that bound visit most of the tree).
+   */
+  readonly boxes: Float64Array;
 }
 
 /** Builds the tree; `xyz` holds x, y, z of point k at 3k .. 3k + 2. Requires at least one point. */
@@ -29,21 +36,23 @@ export function buildUnitKdTree(xyz: Float64Array): UnitKdTree {
   const coords = Float64Array.from(xyz);
   const ids = new Int32Array(size).map((_, i) => i);
   const axis = new Uint8Array(size);
+  const boxes = new Float64Array(6 * size);
   const stack = [0, size - 1];
   while (stack.length > 0) {
     const hi = stack.pop()!;
     const lo = stack.pop()!;
     if (hi - lo + 1 <= LEAF) continue;
-    const ax = widestAxis(coords, lo, hi);
     const m = (lo + hi) >> 1;
+    const ax = boundingBox(coords, lo, hi, boxes, 6 * m);
     select(coords, ids, lo, hi, m, ax);
     axis[m] = ax;
     stack.push(lo, m - 1, m + 1, hi);
   }
-  return { size, coords, ids, axis };
+  return { size, coords, ids, axis, boxes };
 }
 
-function widestAxis(c: Float64Array, lo: number, hi: number): number {
+/** Writes the box of points lo..hi at boxes[at..at+6) and returns its widest axis. */
+function boundingBox(c: Float64Array, lo: number, hi: number, boxes: Float64Array, at: number): number {
   let best = 0;
   let bestSpread = -1;
   for (let ax = 0; ax < 3; ax++) {
@@ -54,12 +63,25 @@ function widestAxis(c: Float64Array, lo: number, hi: number): number {
       if (v < min) min = v;
       if (v > max) max = v;
     }
+    boxes[at + ax] = min;
+    boxes[at + 3 + ax] = max;
     if (max - min > bestSpread) {
       bestSpread = max - min;
       best = ax;
     }
   }
   return best;
+}
+
+/** Squared distance from (x, y, z) to the box of the node of range lo..hi, or 0 for a leaf range (no box kept). */
+function boxDist2(t: UnitKdTree, lo: number, hi: number, x: number, y: number, z: number): number {
+  if (hi - lo + 1 <= LEAF) return 0;
+  const b = t.boxes;
+  const at = 6 * ((lo + hi) >> 1);
+  const dx = Math.max(b[at]! - x, 0, x - b[at + 3]!);
+  const dy = Math.max(b[at + 1]! - y, 0, y - b[at + 4]!);
+  const dz = Math.max(b[at + 2]! - z, 0, z - b[at + 5]!);
+  return dx * dx + dy * dy + dz * dz;
 }
 
 /** Quickselect: puts the k-th smallest on `ax` at position k, smaller before, larger after. */
@@ -153,17 +175,24 @@ export function kthNearestChord2(t: UnitKdTree, x: number, y: number, z: number,
     offer(dist2(c, m, x, y, z));
     const ax = t.axis[m]!;
     const diff = (ax === 0 ? x : ax === 1 ? y : z) - c[3 * m + ax]!;
-    // Far side first onto the stack, so the near side is searched first.
+    // Far side first onto the stack, so the near side is searched first. A side is bounded by
+    // the split plane and by its own box, whichever is farther.
     const farLo = diff <= 0 ? m + 1 : lo;
     const farHi = diff <= 0 ? hi : m - 1;
-    stackLo[top] = farLo;
-    stackHi[top] = farHi;
-    stackBound[top] = diff * diff;
-    top++;
-    stackLo[top] = diff <= 0 ? lo : m + 1;
-    stackHi[top] = diff <= 0 ? m - 1 : hi;
-    stackBound[top] = 0;
-    top++;
+    const nearLo = diff <= 0 ? lo : m + 1;
+    const nearHi = diff <= 0 ? m - 1 : hi;
+    if (farLo <= farHi) {
+      stackLo[top] = farLo;
+      stackHi[top] = farHi;
+      stackBound[top] = Math.max(diff * diff, boxDist2(t, farLo, farHi, x, y, z));
+      top++;
+    }
+    if (nearLo <= nearHi) {
+      stackLo[top] = nearLo;
+      stackHi[top] = nearHi;
+      stackBound[top] = boxDist2(t, nearLo, nearHi, x, y, z);
+      top++;
+    }
   }
   return ranked[k - 1]!;
 }
@@ -198,12 +227,12 @@ export function pointsWithin(t: UnitKdTree, x: number, y: number, z: number, r2:
     }
     const ax = t.axis[m]!;
     const diff = (ax === 0 ? x : ax === 1 ? y : z) - c[3 * m + ax]!;
-    if (diff <= 0 || diff * diff <= r2) {
+    if ((diff <= 0 || diff * diff <= r2) && m - 1 >= lo && boxDist2(t, lo, m - 1, x, y, z) <= r2) {
       stackLo[top] = lo;
       stackHi[top] = m - 1;
       top++;
     }
-    if (diff >= 0 || diff * diff <= r2) {
+    if ((diff >= 0 || diff * diff <= r2) && hi >= m + 1 && boxDist2(t, m + 1, hi, x, y, z) <= r2) {
       stackLo[top] = m + 1;
       stackHi[top] = hi;
       top++;
