@@ -1,6 +1,6 @@
 import { and, eq } from 'drizzle-orm';
 import { buildVersion } from '../../core/build/build-version.ts';
-import type { LayoutChoice } from '../../core/build/choose-layout.ts';
+import { explainChoice, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import type { Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
@@ -24,6 +24,8 @@ export interface BuildSummary {
   products: number;
   /** k nearest the matrix serves (1 unless the build asked for more). */
   maxK: number;
+  /** Why this layout (explainChoice): its cost per query and what became of the others weighed. */
+  layoutReason?: string;
 }
 
 /**
@@ -60,7 +62,7 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   const manifestKey = blobKeys.manifest(dataset.id, version.number);
   await putBlob(env, manifestKey, JSON.stringify(built.manifest));
   const m = built.manifest.matrix;
-  const summary: BuildSummary = { layout: built.manifest.layout.kind, rows: m.rows, columns: m.columns, ones: m.ones, products: m.plan.products, maxK: built.manifest.maxK };
+  const summary: BuildSummary = { layout: built.manifest.layout.kind, rows: m.rows, columns: m.columns, ones: m.ones, products: m.plan.products, maxK: built.manifest.maxK, layoutReason: explainChoice(built.layoutsTried) };
   const done = await db
     .update(versions)
     .set({

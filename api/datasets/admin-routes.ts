@@ -13,7 +13,8 @@ import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
-import { blobKeys, putBlob } from '../storage/blobs.ts';
+import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
+import { checkBuildRequest } from '../../core/build/build-version.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
 import { queueBuild } from '../builds/queue-build.ts';
 import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
@@ -84,6 +85,12 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     }
     const maxK = buildMaxK(c.req.query('maxK'));
     if (layout === 'veiled' && maxK > 1) throw new ApiError(400, 'invalid_max_k', `maxK: the veiled layout serves the nearest site only (maxK 1), got ${maxK}`, 'maxK');
+    // A named layout that cannot fit is refused now, with advice, not after minutes in the queue.
+    if (layout === 'grid') {
+      const csv = await getBlobText(c.env, version.tableKey);
+      if (csv === null) throw new ApiError(410, 'table_gone', `the site table of version ${version.number} is no longer kept`, 'version');
+      checkBuildRequest(parseSiteTable(csv), layout, maxK);
+    }
     await queueBuild(c.env, db, dataset, version, layout, maxK);
     await recordAudit(c, { action: 'version.build', target: `dataset ${dataset.slug} v${version.number}`, detail: { layout, maxK, queued: true } });
     return c.json(versionView(await findVersion(db, dataset, version.number)), 202);
@@ -144,6 +151,7 @@ function versionView(row: VersionRow) {
     progress: row.state === 'building' && row.progressStage !== null ? { stage: row.progressStage, percent: row.progressPercent ?? 0 } : null,
     error: row.error,
     layout: summary?.layout ?? null,
+    layoutReason: summary?.layoutReason ?? null,
     maxK: summary === null ? null : (summary.maxK ?? 1),
     matrix: summary === null ? null : { rows: summary.rows, columns: summary.columns, ones: summary.ones, products: summary.products },
     buildAttempts: row.buildAttempts,

@@ -13,7 +13,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   invalid_version: 'The version in the path or query is not a whole number >= 1 (400).',
   invalid_layout: 'The build layout is not one of auto, grid, adaptive, veiled (400).',
   invalid_max_k: 'The build maxK is not a whole number 1-8, or is above 1 for the veiled layout (400).',
-  matrix_too_large: 'The layout asked for needs more memory to answer from than a Worker may use; the build fails with this reason (422).',
+  matrix_too_large: 'No layout the build may use fits the memory a Worker may use for one answer: a named grid is refused before it is queued, with the layouts that would fit (422).',
   table_gone: 'The stored site table of this version is no longer kept (410).',
   manifest_gone: 'The stored manifest of this version is no longer kept (410).',
   invalid_month: 'The month is not YYYY-MM (400).',

@@ -37,6 +37,7 @@ export const Version = z
     progress: z.object({ stage: z.string(), percent: z.number().int() }).nullable().describe('while building: the stage and its percent'),
     error: z.string().nullable().describe('why the last build attempt failed'),
     layout: z.enum(['grid', 'kd', 'veiled']).nullable(),
+    layoutReason: z.string().nullable().describe('why the build chose its layout: its cost per query and what became of the others weighed'),
     maxK: z.number().int().nullable().describe('k nearest the built matrix serves'),
     matrix: z.object({ rows: z.number().int(), columns: z.number().int(), ones: z.number().int(), products: z.number().int() }).nullable(),
     buildAttempts: z.number().int(),

@@ -9,7 +9,7 @@ import { InputError } from '../errors/input-error.ts';
 import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
 import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
 import { buildDetails } from '../details/build-details.ts';
-import { chooseLayout, type LayoutCandidate, type LayoutChoice } from './choose-layout.ts';
+import { checkLayoutFits, chooseLayout, MEMORY_CHECK_BITS, type LayoutCandidate, type LayoutChoice, type LayoutVerdict } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
 import { planRecord } from './plan-record.ts';
@@ -38,6 +38,10 @@ export interface BuildResult {
     maxList: number;
     chosen: boolean;
     eligible: boolean;
+    /** Why it was or was not chosen (choose-layout.ts). */
+    verdict: LayoutVerdict;
+    /** The least memory an answer on its matrix needs, at 3072 bits. */
+    answerBytes: number;
     cost: ShapeCost;
     /** True when only a lower bound was computed (the layout lost on that bound alone). */
     bound: boolean;
@@ -101,20 +105,14 @@ export async function buildVersion(
   await report('regions', 0);
   // Details first: a record over the size limit fails the build before the costly geometry.
   const details = meta.detailsSecret === undefined ? undefined : await buildDetails(table, meta.detailsSecret);
-  const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
-  const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
-  const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
-  const points = buildSitePoints(lats, lons);
-  const slotBits = recordLayout(n, 1).slotBits;
-  // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
-  const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
-  const { chosen, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
+  const { codes, points, slotBits, siteOnes } = layoutInputs(table);
+  const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
+  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
     weighAll: meta.weighAll === true,
     k: maxK,
+    memoryBudgetBytes: budget,
     onProgress: (share) => void report('regions', 80 * share),
   });
-  const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
-  const choice = layoutWithinMemory(chosen, tried, meta.layout ?? 'auto', budget);
   await report('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
@@ -198,11 +196,39 @@ export async function buildVersion(
       maxList: g.slotsPerRegion,
       chosen: g === choice,
       eligible: g.eligible,
+      verdict: g.verdict,
+      answerBytes: g.answerBytes,
       cost: g.cost,
       bound: g.bound,
       ...(g.partition ? { rounds: g.partition.rounds } : {}),
     })),
   };
+}
+
+/**
+ * What the layout decision works on: quantised codes of every site, the places as a kd-tree, the
+ * bits of one list slot and the 1-bits each site's slot adds to the matrix.
+ */
+export function layoutInputs(table: SiteTable) {
+  const n = table.sites.length;
+  const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
+  const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
+  const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
+  const points = buildSitePoints(lats, lons);
+  const slotBits = recordLayout(n, 1).slotBits;
+  // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
+  const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
+  return { codes, points, slotBits, siteOnes };
+}
+
+/**
+ * A build request's check before it is queued (checkLayoutFits): a named layout that cannot fit a
+ * Worker's memory for one answer is refused at once, with advice, instead of failing later.
+ */
+export function checkBuildRequest(table: SiteTable, layout: LayoutChoice, maxK: number, memoryBudgetBytes = ANSWER_MEMORY_BUDGET_BYTES): void {
+  if (layout !== 'grid') return;
+  const { points, slotBits, siteOnes } = layoutInputs(table);
+  checkLayoutFits(points, slotBits, siteOnes, layout, { k: maxK, memoryBudgetBytes });
 }
 
 function lengthCounts(lists: readonly Int32Array[]): number[] {
@@ -211,31 +237,7 @@ function lengthCounts(lists: readonly Int32Array[]): number[] {
   return Array.from(counts, (c) => c ?? 0);
 }
 
-/** Memory is checked at the largest modulus a client may use: its slots are the widest. */
-const MEMORY_CHECK_BITS = Math.max(...MODULUS_BITS);
 const MiB = (bytes: number) => (bytes / 2 ** 20).toFixed(0);
-
-/**
- * The chosen layout if a Worker can answer from its matrix; under 'auto' the cheapest layout
- * that fits otherwise. A layout asked for by name that does not fit is refused (InputError).
- * The least memory any plan needs is the blocked plan with two-column tables.
- */
-type BuiltCandidate = LayoutCandidate & { lists: Int32Array[] };
-
-function layoutWithinMemory(chosen: BuiltCandidate, tried: LayoutCandidate[], asked: LayoutChoice, budget: number): BuiltCandidate {
-  const least = (c: LayoutCandidate) => answerMemory(c.packing.rows, c.packing.columns, { kind: 'blocked', blockColumns: 2 }, MEMORY_CHECK_BITS).peakBytes;
-  if (least(chosen) <= budget) return chosen;
-  // Only layouts whose lists were built (a bounded grid already lost on cost) can stand in.
-  const fitting = tried.filter((c): c is BuiltCandidate => c.lists !== null && least(c) <= budget);
-  if (asked === 'auto' && fitting.length > 0) return fitting.reduce((best, c) => (c.cost.seconds.total < best.cost.seconds.total ? c : best));
-  throw new InputError(
-    'matrix_too_large',
-    'layout',
-    `layout ${chosen.label} needs a ${chosen.packing.rows} x ${chosen.packing.columns} matrix: answering from it takes ${MiB(least(chosen))} MiB, ` +
-      `more than the ${MiB(budget)} MiB a Worker may use for one answer` + (asked === 'auto' ? '' : '; try the adaptive layout'),
-    { status: 422 },
-  );
-}
 
 function planShape(p: AnswerPlan): PlanShape {
   return p.kind === 'mined' ? { kind: 'mined', rules: p.mined.rules.length } : p;

@@ -7,6 +7,8 @@ import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
 import { gridCandidateLists } from '../geo/region-lists.ts';
 import type { SitePoints } from '../geo/site-points.ts';
+import { InputError } from '../errors/input-error.ts';
+import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory } from '../pir/answer-memory.ts';
 import type { PartitionRecord } from '../geo/veiled-layout.ts';
 import { shapeCost, sumCosts, type ShapeCost } from './cost-model.ts';
 import { recordOnes } from './fill-partition-matrix.ts';
@@ -29,6 +31,28 @@ export const VEILED_SITES_PER_CELL = 64;
 export type LayoutChoice = 'auto' | 'grid' | 'adaptive' | 'veiled';
 export const LAYOUT_CHOICES: readonly LayoutChoice[] = ['auto', 'grid', 'adaptive', 'veiled'];
 
+/** Memory is checked at the widest modulus clients may use (3072 bits): its slots are the largest. */
+export const MEMORY_CHECK_BITS = 3072;
+
+/**
+ * The least memory any answer on a rows x columns matrix needs: the blocked plan with two-column
+ * tables (core/pir/answer-memory.ts) at MEMORY_CHECK_BITS. A layout whose matrix needs more than
+ * the budget cannot be answered by a Worker, whatever the plan.
+ */
+export function leastAnswerBytes(rows: number, columns: number): number {
+  return answerMemory(rows, columns, { kind: 'blocked', blockColumns: 2 }, MEMORY_CHECK_BITS).peakBytes;
+}
+
+/**
+ * Why a weighed layout was or was not chosen:
+ * - 'chosen': the cheapest eligible layout that fits the memory budget;
+ * - 'costlier': eligible and fits, but a query costs more;
+ * - 'too_large': a Worker could not answer from its matrix (more than the memory budget);
+ * - 'not_asked': weighed for comparison only (veiled under auto, or another kind than the one asked).
+ * A 'bound' candidate lost on a lower bound of its cost or memory: its lists were never built.
+ */
+export type LayoutVerdict = 'chosen' | 'costlier' | 'too_large' | 'not_asked';
+
 export interface LayoutCandidate {
   readonly label: string;
   readonly layout: Layout;
@@ -42,6 +66,10 @@ export interface LayoutCandidate {
   readonly partition?: { readonly records: PartitionRecord[]; readonly packing: Packing; readonly rounds: { partition: ShapeCost; cells: ShapeCost } };
   /** Set when the candidate may be chosen under the requested LayoutChoice (others are weighed for comparison). */
   readonly eligible: boolean;
+  /** The least memory an answer on its matrix needs (leastAnswerBytes; a lower bound for a bounded grid). */
+  readonly answerBytes: number;
+  /** Set by chooseLayout once every candidate is weighed. */
+  verdict: LayoutVerdict;
   /**
    * True when the lists were not built because a lower bound of the cost (gridListBounds, every
    * site listed at least once) already lost: then `slotsPerRegion` and `cost` are those bounds.
@@ -50,21 +78,60 @@ export interface LayoutCandidate {
 }
 
 /**
- * Builds candidate lists for a handful of layouts and keeps the one whose query costs least by
- * the cost model (cost-model.ts). Uniform grids: a coarse grid has few regions but long padded
- * lists, a fine grid many columns and sites repeated in many lists. Adaptive (kd) layouts keep
- * every list short where sites are dense. `siteOnes[s]` is the 1-bits of site s's slot.
- * Deterministic: same input, same choice.
+ * The one decision procedure for a build's layout, used by the build (queue consumer), `nearveil
+ * plan` and, through them, the CLI and the console. It builds candidate lists for a handful of
+ * layouts and keeps, among those the request allows (`eligible`) and whose matrix a Worker can
+ * answer from (`answerBytes` within `memoryBudgetBytes`), the one whose query costs least by the
+ * cost model (cost-model.ts). Every candidate gets a verdict saying why it was or was not chosen.
+ * `weighAll` only adds candidates for comparison: it never changes the choice.
+ * Uniform grids: a coarse grid has few regions but long padded lists, a fine grid many columns
+ * and sites repeated in many lists. Adaptive (kd) layouts keep every list short where sites are
+ * dense, so one of them always fits. `siteOnes[s]` is the 1-bits of site s's slot.
+ * Throws InputError `matrix_too_large` (422, field "layout") when no allowed layout fits, with the
+ * layouts that would. Deterministic: same input, same choice.
  */
 export function chooseLayout(
   points: SitePoints,
   slotBits: number,
   siteOnes: Int32Array,
   choice: LayoutChoice = 'auto',
-  options: { weighAll?: boolean; k?: number; onProgress?: (share: number) => void } = {},
+  options: WeighOptions = {},
 ): { chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] } {
+  const { chosen, tried } = weighLayouts(points, slotBits, siteOnes, choice, options, false);
+  if (chosen === null) throw tooLarge(tried, choice, options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES);
+  return { chosen, tried };
+}
+
+/**
+ * The check a build request makes before it is queued: throws chooseLayout's `matrix_too_large`
+ * refusal when even the lower bounds of every grid the choice allows exceed the memory budget
+ * (a named grid on a clustered table). No candidate list is built, so it is cheap; adaptive and
+ * veiled lists stay short by design and are left to the build itself.
+ */
+export function checkLayoutFits(points: SitePoints, slotBits: number, siteOnes: Int32Array, choice: LayoutChoice, options: Omit<WeighOptions, 'weighAll' | 'onProgress'> = {}): void {
+  if (choice !== 'grid') return;
+  const { tried } = weighLayouts(points, slotBits, siteOnes, choice, options, true);
+  if (!tried.some((c) => c.verdict !== 'too_large')) throw tooLarge(tried, choice, options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES);
+}
+
+export interface WeighOptions {
+  weighAll?: boolean;
+  k?: number;
+  onProgress?: (share: number) => void;
+  memoryBudgetBytes?: number;
+}
+
+function weighLayouts(
+  points: SitePoints,
+  slotBits: number,
+  siteOnes: Int32Array,
+  choice: LayoutChoice,
+  options: WeighOptions,
+  boundsOnly: boolean,
+): { chosen: (LayoutCandidate & { lists: Int32Array[] }) | null; tried: LayoutCandidate[] } {
   const n = points.lats.length;
   const k = options.k ?? 1;
+  const budget = options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
   if (k > 1 && choice === 'veiled') throw new RangeError(`chooseLayout: the veiled layout serves k = 1 only, got maxK ${k}`);
   const tried: LayoutCandidate[] = [];
   const eligible = (kind: 'grid' | 'adaptive' | 'veiled') => choice === kind || (choice === 'auto' && kind !== 'veiled');
@@ -75,8 +142,10 @@ export function chooseLayout(
     const costOf = (p: Packing) => shapeCost(p.rows, p.columns, ones + 2 * p.rows, regionBits).seconds.total;
     const pack = choosePacking(regions, regionBits, costOf);
     const cost = shapeCost(pack.rows, pack.columns, ones + 2 * pack.rows, regionBits);
-    return { label, layout, lists, slotsPerRegion, packing: pack, cost, eligible: eligible(kindOf(layout)), bound: lists === null };
+    const answerBytes = leastAnswerBytes(pack.rows, pack.columns);
+    return { label, layout, lists, slotsPerRegion, packing: pack, cost, eligible: eligible(kindOf(layout)), answerBytes, bound: lists === null, verdict: 'costlier' };
   };
+  const fits = (c: LayoutCandidate) => c.answerBytes <= budget && (!c.partition || leastAnswerBytes(c.partition.packing.rows, c.partition.packing.columns) <= budget);
   const weigh = (label: string, layout: Layout, lists: Int32Array[], records?: PartitionRecord[]) => {
     let ones = 0;
     for (const list of lists) for (const s of list) ones += siteOnes[s]!;
@@ -98,7 +167,7 @@ export function chooseLayout(
   for (const o of siteOnes) allOnes += o;
   const fewestOnes = Int32Array.from(siteOnes).sort().slice(0, k).reduce((sum, o) => sum + o, 0);
   const onesAtLeast = (regions: number) => Math.max(allOnes, regions * fewestOnes);
-  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && fits(c) && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
   // Lists grow with k: the adaptive targets scale with (k + 1) / 2 (8 and 16 for k = 1).
   const base = Math.round((ADAPTIVE_TARGET * (k + 1)) / 2);
   const targets = n <= 5000 ? [base, 2 * base] : [2 * base];
@@ -113,8 +182,8 @@ export function chooseLayout(
       grids.push({ kind: 'grid', ...box, rows, cols });
     }
   }
-  const adaptive = eligible('adaptive') || options.weighAll ? targets : [];
-  const veiled = eligible('veiled') || options.weighAll ? targets : [];
+  const adaptive = !boundsOnly && (eligible('adaptive') || options.weighAll) ? targets : [];
+  const veiled = !boundsOnly && (eligible('veiled') || options.weighAll) ? targets : [];
   // Progress: a grid counts one share, an adaptive or veiled layout (slower) three. Adaptive
   // layouts go first: a grid whose lower bound already loses to the best so far is not built.
   const shares = grids.length + 3 * (adaptive.length + veiled.length);
@@ -135,7 +204,8 @@ export function chooseLayout(
     const seen = gridListBounds(points, layout, siteOnes);
     const lower = costed(label, layout, regions, Math.max(Math.min(k, n), seen.longest), Math.max(seen.ones, onesAtLeast(regions)), null);
     const leader = best();
-    if (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total) tried.push(lower);
+    // Not built when even its lower bounds lose on cost or cannot fit (the memory grows with the lists).
+    if (boundsOnly || !fits(lower) || (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total)) tried.push(lower);
     else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
     done += 1;
   }
@@ -151,8 +221,44 @@ export function chooseLayout(
     }
   }
   const chosen = best();
-  if (chosen === null || chosen.lists === null) throw new Error('chooseLayout: no layout was built');
-  return { chosen: chosen as LayoutCandidate & { lists: Int32Array[] }, tried };
+  for (const c of tried) c.verdict = c === chosen ? 'chosen' : !fits(c) ? 'too_large' : c.eligible ? 'costlier' : 'not_asked';
+  return { chosen: chosen === null || chosen.lists === null ? null : (chosen as LayoutCandidate & { lists: Int32Array[] }), tried };
+}
+
+/**
+ * One line on why the chosen layout won, for the version's summary, `nearveil import` and the
+ * console: its cost per query and what became of the others.
+ */
+export function explainChoice(tried: readonly Pick<LayoutCandidate, 'label' | 'verdict' | 'cost'>[]): string {
+  const chosen = tried.find((c) => c.verdict === 'chosen');
+  const count = (v: LayoutVerdict) => tried.filter((c) => c.verdict === v).length;
+  const others = [
+    [count('costlier'), 'cost more per query'],
+    [count('too_large'), 'were too large to answer from'],
+    [count('not_asked'), 'were not weighed by this choice'],
+  ]
+    .filter(([n]) => (n as number) > 0)
+    .map(([n, what]) => `${n} ${what}`);
+  return `${chosen?.label ?? 'none'} (${chosen ? chosen.cost.seconds.total.toFixed(2) : '?'} s per query by the cost model) of ${tried.length} layouts weighed${others.length > 0 ? `: ${others.join(', ')}` : ''}`;
+}
+
+const MiB = (bytes: number) => (bytes / 2 ** 20).toFixed(0);
+
+/** The refusal when no allowed layout fits: the smallest one tried, and the layouts that would fit with their cost. */
+function tooLarge(tried: readonly LayoutCandidate[], choice: LayoutChoice, budget: number): InputError {
+  const allowed = tried.filter((c) => c.eligible);
+  const smallest = allowed.reduce((a, c) => (c.answerBytes < a.answerBytes ? c : a), allowed[0]!);
+  const others = tried.filter((c) => !c.eligible && c.verdict !== 'too_large' && !c.bound);
+  const advice = others.length > 0
+    ? `; ${others.map((c) => `${c.label} fits (${c.cost.rows} x ${c.cost.columns}, ${MiB(c.answerBytes)} MiB, ${(c.cost.bytesUp / 1024).toFixed(0)} KiB up and ${(c.cost.bytesDown / 1024).toFixed(0)} KiB down per query)`).join('; ')}`
+    : choice === 'auto' ? '' : '; build with layout auto or adaptive (their lists stay short, so their matrices stay small; `nearveil plan FILE` prints their cost)';
+  return new InputError(
+    'matrix_too_large',
+    'layout',
+    `no ${choice === 'auto' ? '' : `${choice} `}layout fits: the smallest, ${smallest.label}, needs ${smallest.bound ? 'at least ' : ''}a ${smallest.cost.rows} x ${smallest.cost.columns} matrix, ` +
+      `and answering from it takes ${MiB(smallest.answerBytes)} MiB, more than the ${MiB(budget)} MiB a Worker may use for one answer${advice}`,
+    { status: 422 },
+  );
 }
 
 /**

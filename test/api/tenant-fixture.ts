@@ -65,6 +65,7 @@ export interface VersionBody {
   error: string | null;
   progress: { stage: string; percent: number } | null;
   layout: string | null;
+  layoutReason: string | null;
   maxK: number | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
   servedUntil: string | null;

@@ -14,7 +14,9 @@ export const PLAN_HELP = `nearveil plan FILE [--layout auto|grid|adaptive|veiled
   discloses), the matrix shape, bytes each way, the server's products (plain and with the chosen
   answer plan) and the modelled seconds per query. --layout grid discloses only a box around the
   sites; adaptive discloses where they are dense; veiled only a coarse grid, for a second private
-  round per query. auto picks the cheaper of grid and adaptive, never veiled. --max-k K builds for the K nearest
+  round per query. auto picks the cheapest of grid and adaptive whose matrix a Worker can answer
+  from (at most 64 MiB for one answer), never veiled; each layout weighed says why it was or was
+  not chosen. --max-k K builds for the K nearest
   (1 to 8), and prints a histogram of candidate list lengths.`;
 
 export async function planCommand(args: string[], print: (line: string) => void): Promise<void> {
@@ -58,10 +60,11 @@ export async function planCommand(args: string[], print: (line: string) => void)
       `server products ${m.matrix.plan.products + (m.partition?.plan.products ?? 0)} with the chosen plans, ${m.matrix.plan.plainProducts + (m.partition?.plan.plainProducts ?? 0)} plain.`,
     `Answer plans weighed: ${(m.matrix.plan.weighed ?? []).map((w) => `${w.plan} ${w.products}`).join(', ')}.`,
     '',
-    `Layouts weighed (seconds per query by the cost model: transfer + server + client; ${values.layout === 'veiled' ? 'veiled asked for' : `${values.layout} picks among ${values.layout === 'auto' ? 'grid and adaptive' : values.layout}`}, - marks layouts shown for comparison):`,
-    '  layout                 regions  list   R x C                        up       down     products   seconds',
+    `Layouts weighed (seconds per query by the cost model: transfer + server + client; ${values.layout === 'veiled' ? 'veiled asked for' : `${values.layout} picks among ${values.layout === 'auto' ? 'grid and adaptive' : values.layout}`} those a Worker can answer from; >= marks lower bounds of a layout not built):`,
+    '  layout                 regions   list  R x C                        up       down     products   seconds  answer MiB  verdict',
     ...built.layoutsTried.map((g) =>
-      `${g.chosen ? '*' : g.eligible ? ' ' : '-'} ${g.label.padEnd(22)} ${String(g.regions).padStart(7)}  ${String(g.maxList).padStart(4)}   ${shape(g).padEnd(27)}  ${kib(g.cost.bytesUp).padStart(8)} ${kib(g.cost.bytesDown).padStart(8)}  ${String(g.cost.products).padStart(9)}   ${g.cost.seconds.total.toFixed(2)}`,
+      `${g.chosen ? '*' : ' '} ${g.label.padEnd(22)} ${String(g.regions).padStart(7)}  ${((g.bound ? '>=' : '') + String(g.maxList)).padStart(5)}` +
+      `  ${shape(g).padEnd(27)}  ${kib(g.cost.bytesUp).padStart(8)} ${kib(g.cost.bytesDown).padStart(8)}  ${String(g.cost.products).padStart(9)}   ${g.cost.seconds.total.toFixed(2).padStart(7)}  ${(g.answerBytes / 2 ** 20).toFixed(1).padStart(10)}  ${VERDICT[g.verdict]}`,
     ),
     '',
     'Candidate list lengths (sites per region, before padding):',
@@ -75,6 +78,13 @@ export async function planCommand(args: string[], print: (line: string) => void)
   ];
   print(lines.join('\n'));
 }
+
+const VERDICT = {
+  chosen: 'chosen: the cheapest that fits',
+  costlier: 'costlier per query',
+  too_large: 'too large to answer from (over 64 MiB)',
+  not_asked: 'not weighed by this choice (shown for comparison)',
+} as const;
 
 /** R x C of the matrix; for a veiled layout the partition round's first (two private rounds). */
 function shape(g: BuildResult['layoutsTried'][number]): string {

@@ -41,6 +41,37 @@ describe('build memory budget', () => {
     const err = await buildVersion(table, { dataset: 'budget', version: 1, layout: 'grid', memoryBudgetBytes: 1024 }).catch((e: unknown) => e);
     expect(err).toBeInstanceOf(InputError);
     expect(err).toMatchObject({ code: 'matrix_too_large', field: 'layout' });
-    expect((err as Error).message).toMatch(/try the adaptive layout/);
+    expect((err as Error).message).toMatch(/^no grid layout fits: the smallest, grid \d+ x \d+, needs (at least )?a \d+ x \d+ matrix/);
+    expect((err as Error).message).toMatch(/build with layout auto or adaptive/);
+  });
+
+  it('names the layouts that would fit, with their cost, when the others were weighed too (nearveil plan)', async () => {
+    const table = { sites: clusteredSites(), detailColumns: [] };
+    const free = await buildVersion(table, { dataset: 'budget', version: 1, memoryBudgetBytes: 2 ** 40, weighAll: true });
+    const adaptiveBytes = Math.min(...free.layoutsTried.filter((l) => l.kind === 'kd').map((l) => l.answerBytes));
+    const gridBytes = Math.min(...free.layoutsTried.filter((l) => l.kind === 'grid').map((l) => l.answerBytes));
+    expect(adaptiveBytes).toBeLessThan(gridBytes);
+    const err = await buildVersion(table, { dataset: 'budget', version: 1, layout: 'grid', weighAll: true, memoryBudgetBytes: adaptiveBytes }).catch((e: unknown) => e);
+    expect((err as Error).message).toMatch(/adaptive, lists <= \d+ fits \(\d+ x \d+, \d+ MiB, \d+ KiB up and \d+ KiB down per query\)/);
+  });
+
+  it('plan and build agree: weighing every kind never changes what auto picks, and auto never picks veiled', async () => {
+    const table = { sites: clusteredSites(), detailColumns: [] };
+    const free = await buildVersion(table, { dataset: 'budget', version: 1, memoryBudgetBytes: 2 ** 40 });
+    // A budget under the cheapest layout: the next cheapest that fits must be taken, by both.
+    for (const budget of [2 ** 40, free.layoutsTried.find((l) => l.chosen)!.answerBytes - 1]) {
+      const build = await buildVersion(table, { dataset: 'budget', version: 1, memoryBudgetBytes: budget });
+      const plan = await buildVersion(table, { dataset: 'budget', version: 1, memoryBudgetBytes: budget, weighAll: true });
+      expect(plan.manifest.contentHash).toBe(build.manifest.contentHash);
+      const chosen = plan.layoutsTried.find((l) => l.chosen)!;
+      expect(chosen.kind).not.toBe('veiled');
+      expect(chosen.verdict).toBe('chosen');
+      for (const l of plan.layoutsTried.filter((x) => !x.chosen)) {
+        // Every other layout says why: too large, costlier, or not asked for (veiled under auto).
+        if (l.answerBytes > budget) expect(l.verdict).toBe('too_large');
+        else if (l.kind === 'veiled') expect(l.verdict).toBe('not_asked');
+        else expect([l.verdict, l.cost.seconds.total >= chosen.cost.seconds.total]).toEqual(['costlier', true]);
+      }
+    }
   });
 });
