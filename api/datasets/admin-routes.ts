@@ -2,9 +2,7 @@ import { eq } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { MAX_K } from '../../core/geo/manifest.ts';
-import { encodeAllRecords } from '../../core/details/record-codec.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../core/build/choose-layout.ts';
-import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from '../auth/principal.ts';
 import { database } from '../db/client.ts';
@@ -15,6 +13,7 @@ import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
 import { checkBuildRequest } from '../../core/build/build-version.ts';
+import { readSiteColumns } from '../../core/build/site-columns.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
 import { queueBuild } from '../builds/queue-build.ts';
 import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
@@ -61,13 +60,13 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       throw new ApiError(415, 'content_type', `body: expected Content-Type text/csv, got "${type || 'none'}"`, 'content-type');
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
-    const table = parseSiteTable(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
-    // Records over the details size limit are refused now, naming their rows, not at build time.
-    encodeAllRecords(table);
+    // Read into columns as a build would (a large table fits the isolate); records over the
+    // details size limit are refused now, naming their rows, not at build time.
+    const sites = readSiteColumns(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
-    const number = await insertDraftVersion(db, dataset.id, table.sites.length, tableKey, c.var.principal.label);
-    await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: table.sites.length, bytes: bytes.length, tableKey } });
+    const number = await insertDraftVersion(db, dataset.id, sites.ids.length, tableKey, c.var.principal.label);
+    await recordAudit(c, { action: 'version.upload', target: `dataset ${dataset.slug} v${number}`, detail: { sites: sites.ids.length, bytes: bytes.length, tableKey } });
     return c.json(versionView(await findVersion(db, dataset, number)), 201);
   })
   .get('/datasets/:dataset/versions/:version', async (c) => {
@@ -89,7 +88,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (layout === 'grid') {
       const csv = await getBlobText(c.env, version.tableKey);
       if (csv === null) throw new ApiError(410, 'table_gone', `the site table of version ${version.number} is no longer kept`, 'version');
-      checkBuildRequest(parseSiteTable(csv), layout, maxK);
+      checkBuildRequest(readSiteColumns(csv), layout, maxK);
     }
     await queueBuild(c.env, db, dataset, version, layout, maxK);
     await recordAudit(c, { action: 'version.build', target: `dataset ${dataset.slug} v${version.number}`, detail: { layout, maxK, queued: true } });

@@ -2,6 +2,7 @@ import { ManifestSchema, MAX_K, regionCount, type Layout, type Manifest, type Pa
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
 import type { SiteTable } from '../geo/site-table.ts';
+import { siteColumnsOf, type SiteColumns } from './site-columns.ts';
 import { buildSitePoints } from '../geo/site-points.ts';
 import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
@@ -9,7 +10,8 @@ import { InputError } from '../errors/input-error.ts';
 import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
 import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
 import { buildDetails } from '../details/build-details.ts';
-import { checkLayoutFits, chooseLayout, MEMORY_CHECK_BITS, type LayoutCandidate, type LayoutChoice, type LayoutVerdict } from './choose-layout.ts';
+import { runStepsPaused } from '../steps/steps.ts';
+import { checkLayoutFits, chooseLayoutSteps, MEMORY_CHECK_BITS, type LayoutCandidate, type LayoutChoice, type LayoutVerdict } from './choose-layout.ts';
 import type { ShapeCost } from './cost-model.ts';
 import { fillMatrix } from './fill-matrix.ts';
 import { planRecord } from './plan-record.ts';
@@ -61,13 +63,18 @@ export const MINE_LIMIT_BITS = 4_000_000;
 
 /** Where a build is: stage name and overall percent (0-100, never decreasing). */
 export interface BuildProgress {
-  stage: 'regions' | 'matrix' | 'plan' | 'hash' | 'done';
+  stage: 'details' | 'regions' | 'matrix' | 'plan' | 'hash' | 'done';
   percent: number;
 }
 
 export interface BuildOptions {
-  /** Called as the build moves on; a returned promise is awaited between stages (never inside one). */
+  /** Called as the build moves on, at every checkpoint (core/steps); a returned promise is awaited. */
   onProgress?: (p: BuildProgress) => void | Promise<void>;
+  /**
+   * Awaited at every checkpoint (a few milliseconds of work apart), so a caller sharing its thread
+   * can let other work run: the Worker's build lets requests on the same isolate through.
+   */
+  pause?: () => void | Promise<void>;
 }
 
 /**
@@ -83,11 +90,30 @@ export interface BuildOptions {
  */
 export async function buildVersion(
   table: SiteTable,
-  meta: { dataset: string; version: number; layout?: LayoutChoice; weighAll?: boolean; maxK?: number; detailsSecret?: Uint8Array; memoryBudgetBytes?: number },
+  meta: BuildMeta,
   options: BuildOptions = {},
 ): Promise<BuildResult> {
+  return buildFromColumns(siteColumnsOf(table), meta, options);
+}
+
+export interface BuildMeta {
+  dataset: string;
+  version: number;
+  layout?: LayoutChoice;
+  weighAll?: boolean;
+  maxK?: number;
+  detailsSecret?: Uint8Array;
+  memoryBudgetBytes?: number;
+}
+
+/**
+ * buildVersion on the columns of a table (site-columns.ts): what the Worker's build runs, reading
+ * its CSV straight into columns so a large table fits an isolate. The same result as buildVersion
+ * on the same table.
+ */
+export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, options: BuildOptions = {}): Promise<BuildResult> {
   const started = performance.now();
-  const n = table.sites.length;
+  const n = sites.ids.length;
   if (n < 1) throw new RangeError('buildVersion: expected at least one site, got 0');
   if (typeof meta.dataset !== 'string' || meta.dataset === '') {
     throw new RangeError(`buildVersion: expected a dataset name, got ${JSON.stringify(meta.dataset)}`);
@@ -102,17 +128,19 @@ export async function buildVersion(
     percent = Math.max(percent, Math.min(100, Math.round(at * 10) / 10));
     return options.onProgress?.({ stage, percent });
   };
-  await report('regions', 0);
+  await report(meta.detailsSecret === undefined ? 'regions' : 'details', 0);
   // Details first: a record over the size limit fails the build before the costly geometry.
-  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(table, meta.detailsSecret);
-  const { codes, points, slotBits, siteOnes } = layoutInputs(table);
+  const checkpoint = async (stage: BuildProgress['stage'], at: number) => {
+    await report(stage, at);
+    await options.pause?.();
+  };
+  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(sites, meta.detailsSecret, (share) => checkpoint('details', 10 * share));
+  const { codes, points, slotBits, siteOnes } = layoutInputs(sites.lats, sites.lons);
   const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
-  const { chosen: choice, tried } = chooseLayout(points, slotBits, siteOnes, meta.layout ?? 'auto', {
-    weighAll: meta.weighAll === true,
-    k: maxK,
-    memoryBudgetBytes: budget,
-    onProgress: (share) => void report('regions', 80 * share),
-  });
+  const { chosen: choice, tried } = await runStepsPaused(
+    chooseLayoutSteps(points, slotBits, siteOnes, meta.layout ?? 'auto', { weighAll: meta.weighAll === true, k: maxK, memoryBudgetBytes: budget }),
+    (share) => checkpoint('regions', (details ? 10 : 0) + (details ? 70 : 80) * share),
+  );
   await report('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
@@ -151,7 +179,7 @@ export async function buildVersion(
       ones: countOnes(matrix),
       plan: planRecord(planned),
     },
-    siteIds: table.sites.map((s) => s.id),
+    siteIds: sites.ids,
     ...(details
       ? {
           details: {
@@ -209,9 +237,9 @@ export async function buildVersion(
  * What the layout decision works on: quantised codes of every site, the places as a kd-tree, the
  * bits of one list slot and the 1-bits each site's slot adds to the matrix.
  */
-export function layoutInputs(table: SiteTable) {
-  const n = table.sites.length;
-  const codes = table.sites.map((s) => [quantiseLat(s.lat), quantiseLon(s.lon)] as const);
+export function layoutInputs(siteLats: ArrayLike<number>, siteLons: ArrayLike<number>) {
+  const n = siteLats.length;
+  const codes = Array.from({ length: n }, (_, s) => [quantiseLat(siteLats[s]!), quantiseLon(siteLons[s]!)] as const);
   const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
   const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
   const points = buildSitePoints(lats, lons);
@@ -225,9 +253,9 @@ export function layoutInputs(table: SiteTable) {
  * A build request's check before it is queued (checkLayoutFits): a named layout that cannot fit a
  * Worker's memory for one answer is refused at once, with advice, instead of failing later.
  */
-export function checkBuildRequest(table: SiteTable, layout: LayoutChoice, maxK: number, memoryBudgetBytes = ANSWER_MEMORY_BUDGET_BYTES): void {
+export function checkBuildRequest(sites: Pick<SiteColumns, 'lats' | 'lons'>, layout: LayoutChoice, maxK: number, memoryBudgetBytes = ANSWER_MEMORY_BUDGET_BYTES): void {
   if (layout !== 'grid') return;
-  const { points, slotBits, siteOnes } = layoutInputs(table);
+  const { points, slotBits, siteOnes } = layoutInputs(sites.lats, sites.lons);
   checkLayoutFits(points, slotBits, siteOnes, layout, { k: maxK, memoryBudgetBytes });
 }
 

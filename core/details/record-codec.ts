@@ -75,26 +75,35 @@ export function encodeAllRecords(table: SiteTable): { records: Uint8Array<ArrayB
   const records = table.sites.map((s) => encodeRecord(s, table.detailColumns));
   const issues: InputIssue[] = [];
   records.forEach((r, i) => {
-    if (r.length <= MAX_RECORD_BYTES) return;
-    const row = table.rows?.[i];
-    const where = row === undefined ? `site index ${i}` : `row ${row}`;
-    issues.push({
-      ...(row === undefined ? {} : { row }),
-      message: `${where} (site "${table.sites[i]!.id}"): its record is ${r.length} bytes, the limit is ${MAX_RECORD_BYTES} bytes of encoded text per site`,
-    });
+    if (r.length > MAX_RECORD_BYTES) issues.push(recordTooLarge(table.rows?.[i], i, table.sites[i]!.id, r.length));
   });
-  if (issues.length > 0) {
-    const listed = issues.slice(0, MAX_LISTED_ISSUES);
-    throw new InputError(
-      'record_too_large',
-      'file',
-      `details: expected every record to be at most ${MAX_RECORD_BYTES} bytes, got ${issues.length} larger (first: ${listed[0]!.message})`,
-      { status: 413, details: listed },
-    );
-  }
+  if (issues.length > 0) throw recordsTooLarge(issues);
   const recordBytes = records.reduce((max, r) => Math.max(max, r.length), HEADER_BYTES);
   return { records, recordBytes };
 }
+
+/** The issue of one record over MAX_RECORD_BYTES: its spreadsheet row when known, else its site index. */
+export function recordTooLarge(row: number | undefined, index: number, id: string, length: number): InputIssue {
+  const where = row === undefined ? `site index ${index}` : `row ${row}`;
+  return {
+    ...(row === undefined ? {} : { row }),
+    message: `${where} (site "${id}"): its record is ${length} bytes, the limit is ${MAX_RECORD_BYTES} bytes of encoded text per site`,
+  };
+}
+
+/** InputError `record_too_large` (413, field `file`) listing up to MAX_LISTED_ISSUES records. */
+export function recordsTooLarge(issues: readonly InputIssue[]): InputError {
+  const listed = issues.slice(0, MAX_LISTED_ISSUES);
+  return new InputError(
+    'record_too_large',
+    'file',
+    `details: expected every record to be at most ${MAX_RECORD_BYTES} bytes, got ${issues.length} larger (first: ${listed[0]!.message})`,
+    { status: 413, details: listed },
+  );
+}
+
+/** The shortest padded record length: the fixed header. */
+export const RECORD_HEADER_BYTES = HEADER_BYTES;
 
 /** `record` followed by zero bytes up to `length`. RangeError if it is longer. */
 export function padRecord(record: Uint8Array, length: number): Uint8Array<ArrayBuffer> {

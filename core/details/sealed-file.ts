@@ -15,19 +15,25 @@ export function sealedFileBytes(count: number, sealedRecordBytes: number): numbe
   return SEALED_HEADER_BYTES + count * sealedRecordBytes;
 }
 
-export function encodeSealedFile(sealed: readonly Uint8Array[]): Uint8Array<ArrayBuffer> {
-  if (sealed.length < 1) throw new RangeError('encodeSealedFile: expected at least one record, got 0');
-  const length = sealed[0]!.length;
-  const out = new Uint8Array(sealedFileBytes(sealed.length, length));
+/**
+ * An empty sealed file of `count` records of `sealedRecordBytes`, its header written: the records
+ * are set in place at sealedRecordAt (build-details.ts), so none is held twice.
+ */
+export function emptySealedFile(count: number, sealedRecordBytes: number): Uint8Array<ArrayBuffer> {
+  if (!Number.isSafeInteger(count) || count < 1) throw new RangeError(`emptySealedFile: expected at least one record, got ${count}`);
+  if (!Number.isSafeInteger(sealedRecordBytes) || sealedRecordBytes < 1) throw new RangeError(`emptySealedFile: expected a record length >= 1, got ${sealedRecordBytes}`);
+  const out = new Uint8Array(sealedFileBytes(count, sealedRecordBytes));
   const view = new DataView(out.buffer);
   out.set(MAGIC, 0);
-  view.setUint32(4, sealed.length);
-  view.setUint32(8, length);
-  sealed.forEach((s, i) => {
-    if (s.length !== length) throw new RangeError(`encodeSealedFile: expected every record to be ${length} bytes, got ${s.length} at index ${i}`);
-    out.set(s, SEALED_HEADER_BYTES + i * length);
-  });
+  view.setUint32(4, count);
+  view.setUint32(8, sealedRecordBytes);
   return out;
+}
+
+/** Where site `index`'s sealed record starts in the file. */
+export function sealedRecordAt(count: number, sealedRecordBytes: number, index: number): number {
+  if (!Number.isSafeInteger(index) || index < 0 || index >= count) throw new RangeError(`sealedRecordAt: expected index in [0, ${count}), got ${index}`);
+  return SEALED_HEADER_BYTES + index * sealedRecordBytes;
 }
 
 export interface SealedFile {

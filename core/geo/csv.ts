@@ -17,71 +17,91 @@ export interface CsvResult {
 }
 
 export function readCsv(text: string): CsvResult {
-  const src = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
-  const records: string[][] = [];
   const problems: CsvProblem[] = [];
+  return { records: [...csvRecords(text, problems)], problems };
+}
+
+/**
+ * The records of a CSV text one at a time, so a large table is never held as an array of
+ * arrays: problems are pushed onto `problems` as they are met. Fields are cut out of the text
+ * (no character-by-character building), so reading stays linear in the text's length.
+ */
+export function* csvRecords(text: string, problems: CsvProblem[]): Generator<string[], void, undefined> {
+  const src = text.charCodeAt(0) === 0xfeff ? text.slice(1) : text;
+  const n = src.length;
+  let number = 0;
   let record: string[] = [];
-  let field = '';
   let i = 0;
-  const endField = () => {
-    record.push(field);
-    field = '';
-  };
-  const endRecord = () => {
-    endField();
-    records.push(record);
-    record = [];
-  };
-  while (i < src.length) {
-    const ch = src[i]!;
-    if (ch === '"' && field === '') {
+  let pendingField = false; // a separator was read, so a (possibly empty) field follows
+  while (i < n) {
+    let field: string;
+    if (src.charCodeAt(i) === 0x22) {
       // Quoted field: runs to the next quote that is not doubled.
       let j = i + 1;
       let value = '';
+      let from = j;
       let closed = false;
-      while (j < src.length) {
-        const c = src[j]!;
-        if (c === '"') {
-          if (src[j + 1] === '"') {
-            value += '"';
-            j += 2;
-            continue;
-          }
-          closed = true;
-          j++;
+      while (j < n) {
+        const q = src.indexOf('"', j);
+        if (q < 0) {
+          j = n;
           break;
         }
-        value += c;
-        j++;
-      }
-      field = value;
-      if (!closed) {
-        problems.push({ record: records.length + 1, message: 'a quoted field is never closed' });
-        i = j;
+        if (src.charCodeAt(q + 1) === 0x22) {
+          value += src.slice(from, q + 1);
+          j = q + 2;
+          from = j;
+          continue;
+        }
+        value += src.slice(from, q);
+        closed = true;
+        j = q + 1;
         break;
       }
+      if (!closed) {
+        value += src.slice(from, n);
+        problems.push({ record: number + 1, message: 'a quoted field is never closed' });
+        record.push(value);
+        yield record;
+        return;
+      }
+      field = value;
       const next = src[j];
       if (next !== undefined && next !== ',' && next !== '\n' && next !== '\r') {
-        problems.push({ record: records.length + 1, message: `expected a comma or line break after a closing quote, got "${next}"` });
+        problems.push({ record: number + 1, message: `expected a comma or line break after a closing quote, got "${next}"` });
         // Skip to the next separator so one mistake does not garble the rest of the file.
-        while (j < src.length && src[j] !== ',' && src[j] !== '\n' && src[j] !== '\r') j++;
+        while (j < n && src[j] !== ',' && src[j] !== '\n' && src[j] !== '\r') j++;
       }
       i = j;
+    } else {
+      let j = i;
+      for (; j < n; j++) {
+        const c = src.charCodeAt(j);
+        if (c === 0x2c || c === 0x0a || c === 0x0d) break;
+        if (c === 0x22) problems.push({ record: number + 1, message: 'a quote inside an unquoted field (quote the whole field and double the quote)' });
+      }
+      field = src.slice(i, j);
+      i = j;
+    }
+    record.push(field);
+    pendingField = false;
+    if (i >= n) break;
+    const c = src.charCodeAt(i);
+    if (c === 0x2c) {
+      i++;
+      pendingField = true;
       continue;
     }
-    if (ch === ',') {
-      endField();
-      i++;
-    } else if (ch === '\r' || ch === '\n') {
-      endRecord();
-      i += ch === '\r' && src[i + 1] === '\n' ? 2 : 1;
-    } else {
-      if (ch === '"') problems.push({ record: records.length + 1, message: 'a quote inside an unquoted field (quote the whole field and double the quote)' });
-      field += ch;
-      i++;
-    }
+    // A line break ends the record (CRLF, LF or a lone CR).
+    i += c === 0x0d && src.charCodeAt(i + 1) === 0x0a ? 2 : 1;
+    number++;
+    yield record;
+    record = [];
   }
-  // A final record without a line break; a file ending in a line break adds no empty record.
-  if (field !== '' || record.length > 0 || (src.length > 0 && src[src.length - 1] === '"')) endRecord();
-  return { records, problems };
+  // A final record without a line break; a trailing comma leaves one empty field.
+  if (pendingField) record.push('');
+  if (record.length > 0) {
+    number++;
+    yield record;
+  }
 }

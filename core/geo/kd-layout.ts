@@ -1,6 +1,7 @@
 import { segmentLocations, type Segment } from './boundary.ts';
 import { RAD } from './distance.ts';
 import type { SitePoints } from './site-points.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 /**
  * The adaptive layout: the whole sphere cut by a kd-tree of latitude and longitude splits until
@@ -84,7 +85,11 @@ export function buildKdLayout(
   target: number,
   options: { k?: number; onProgress?: (share: number) => void } = {},
 ): { layout: KdLayout; lists: Int32Array[] } {
-  const k = options.k ?? 1;
+  return runSteps(kdLayoutSteps(points, lonStart, target, options.k ?? 1), options.onProgress);
+}
+
+/** buildKdLayout as steps (core/steps): a checkpoint after every leaf. */
+export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: number, k = 1): Steps<{ layout: KdLayout; lists: Int32Array[] }> {
   const nodes: Array<[0 | 1, number] | null> = [];
   const lists: Int32Array[] = [];
   const count = points.sitesAt.length;
@@ -112,7 +117,7 @@ export function buildKdLayout(
   // of boxes ends that (leaves are always sound, only longer).
   let budget = 4 * count + 256;
 
-  const visit = (box: Box, inside: Int32Array, depth: number, parentList: readonly number[] | null) => {
+  function* visit(box: Box, inside: Int32Array, depth: number, parentList: readonly number[] | null): Generator<number, void, undefined> {
     const latSpan = box.latMax - box.latMin;
     const offSpan = box.offMax - box.offMin;
     const holding = sitesIn(inside);
@@ -138,14 +143,16 @@ export function buildKdLayout(
         } else shared.delete(key);
         for (const s of on) found.add(s);
       }
+      // Resolving a boundary is the costly part: a checkpoint after it, leaf or not.
+      if (sitesIn(found) > goal && !final) yield placed / count;
     }
     if (found !== null && (sitesIn(found) <= goal || final)) {
       placed += inside.length;
-      options.onProgress?.(placed / count);
       nodes.push(null);
       const list: number[] = [];
       for (const at of found) list.push(...points.sitesAt[at]!);
       lists.push(Int32Array.from(list).sort());
+      yield placed / count;
       return;
     }
     const nearEquator = box.latMin <= 0 && box.latMax >= 0 ? 0 : Math.min(Math.abs(box.latMin), Math.abs(box.latMax));
@@ -162,11 +169,11 @@ export function buildKdLayout(
         ? [{ ...box, latMax: value }, { ...box, latMin: value }]
         : [{ ...box, offMax: value }, { ...box, offMin: value }];
     const list = found === null ? null : [...found];
-    visit(leftBox, Int32Array.from(left), depth + 1, list);
-    visit(rightBox, Int32Array.from(right), depth + 1, list);
-  };
+    yield* visit(leftBox, Int32Array.from(left), depth + 1, list);
+    yield* visit(rightBox, Int32Array.from(right), depth + 1, list);
+  }
 
-  visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0, null);
+  yield* visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0, null);
   return { layout: { kind: 'kd', lonStart, nodes }, lists };
 }
 

@@ -1,6 +1,7 @@
 import { segmentLocations, type Segment } from './boundary.ts';
 import { gridRegion, isFullCircle, latEdge, lonEdge, type GridLayout } from './grid.ts';
 import type { SitePoints } from './site-points.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 /**
  * Candidate lists of every region of a grid: region i's list holds, in ascending order, every
@@ -18,7 +19,11 @@ export function gridCandidateLists(
   g: GridLayout,
   options: { k?: number; onProgress?: (share: number) => void } = {},
 ): Int32Array[] {
-  const k = options.k ?? 1;
+  return runSteps(gridListSteps(points, g, options.k ?? 1), options.onProgress);
+}
+
+/** gridCandidateLists as steps (core/steps): a checkpoint after every 64 boundary pieces. */
+export function* gridListSteps(points: SitePoints, g: GridLayout, k = 1): Steps<Int32Array[]> {
   const pieces = (g.rows + 1) * g.cols + g.rows * (g.cols + 1);
   let done = 0;
   const { rows, cols } = g;
@@ -28,8 +33,8 @@ export function gridCandidateLists(
   const share = (seg: Segment, regions: number[]) => {
     const found = new Set<number>();
     segmentLocations(points, seg, found, k);
-    if (++done % 256 === 0) options.onProgress?.(done / pieces);
     for (const r of regions) for (const k of found) sets[r]!.add(k);
+    return ++done % 64 === 0;
   };
   // Meridian pieces: meridian j between parallels i and i + 1 borders cells (i, j - 1) and (i, j).
   const meridians = full ? cols : cols + 1;
@@ -40,7 +45,7 @@ export function gridCandidateLists(
       else if (full) regions.push(i * cols + cols - 1);
       if (j < cols) regions.push(i * cols + j);
       if (!full && (j === 0 || j === cols)) regions.push(outside);
-      share({ meridian: true, fixed: lonEdge(g, j), from: latEdge(g, i), to: latEdge(g, i + 1) }, regions);
+      if (share({ meridian: true, fixed: lonEdge(g, j), from: latEdge(g, i), to: latEdge(g, i + 1) }, regions)) yield done / pieces;
     }
   }
   // Parallel pieces: parallel i between meridians j and j + 1 borders cells (i - 1, j) and (i, j).
@@ -52,7 +57,7 @@ export function gridCandidateLists(
       if (i > 0) regions.push((i - 1) * cols + j);
       if (i < rows) regions.push(i * cols + j);
       if ((i === 0 || i === rows) && Math.abs(lat) !== 90) regions.push(outside);
-      share({ meridian: false, fixed: lat, from: lonEdge(g, j), to: lonEdge(g, j + 1) }, regions);
+      if (share({ meridian: false, fixed: lat, from: lonEdge(g, j), to: lonEdge(g, j + 1) }, regions)) yield done / pieces;
     }
   }
   for (let k = 0; k < points.sitesAt.length; k++) {

@@ -1,6 +1,6 @@
 import { z } from 'zod';
 import { InputError, type InputIssue } from '../errors/input-error.ts';
-import { readCsv } from './csv.ts';
+import { csvRecords, type CsvProblem } from './csv.ts';
 
 /** One site of a table. `name` is null when the column is absent or the cell empty. */
 export interface Site {
@@ -84,25 +84,51 @@ function fail(issues: InputIssue[]): never {
  * `site_table_too_large` (413) above MAX_SITES rows.
  */
 export function parseSiteTable(csv: string): SiteTable {
+  const sites: Site[] = [];
+  const rows: number[] = [];
+  const { detailColumns } = scanSiteTable(csv, (site, row) => {
+    sites.push(site);
+    rows.push(row);
+  });
+  return { sites, detailColumns, rows };
+}
+
+/**
+ * parseSiteTable without keeping the table: `visit` sees every valid site with its spreadsheet
+ * row and the detail columns, in file order, while the text is read; nothing else of a row is kept (a build of a
+ * large table holds a few columns, never every cell). The same checks and errors as
+ * parseSiteTable, thrown once the whole text is read; `visit` may have seen sites by then.
+ */
+export function scanSiteTable(csv: string, visit: (site: Site, row: number, detailColumns: readonly string[]) => void): { detailColumns: string[] } {
   if (typeof csv !== 'string') throw new TypeError(`parseSiteTable: expected a string, got ${typeof csv}`);
-  const { records, problems: csvProblems } = readCsv(csv);
-  const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
-  if (records.length === 0 || records.every(isBlank)) {
+  const csvProblems: CsvProblem[] = [];
+  const records = csvRecords(csv, csvProblems);
+  const first = records.next();
+  const issues: InputIssue[] = [];
+  const checker = first.done ? null : siteRowChecker(first.value, issues);
+  let count = 0;
+  let nonBlank = false;
+  if (checker) {
+    for (const cells of records) {
+      count++;
+      if (count > MAX_SITES) {
+        throw new InputError('site_table_too_large', 'file', `parseSiteTable: expected at most ${MAX_SITES} site rows, got more`, { status: 413 });
+      }
+      if (!isBlank(cells)) nonBlank = true;
+      const site = checker.check(cells, count + 1);
+      if (site) visit(site, count + 1, checker.detailColumns);
+    }
+    if (count === 0) issues.push({ row: 2, message: 'expected at least one site row, got none' });
+  }
+  if (first.done || (isBlank(first.value) && !nonBlank)) {
     fail([{ row: 1, message: 'expected a header row and at least one site row, got an empty file' }]);
   }
-  if (records.length - 1 > MAX_SITES) {
-    throw new InputError(
-      'site_table_too_large',
-      'file',
-      `parseSiteTable: expected at most ${MAX_SITES} site rows, got ${records.length - 1}`,
-      { status: 413 },
-    );
-  }
-  const problems = csvProblems.map((p) => ({ row: p.record, message: p.message }));
-  const { table, issues } = inspectSiteRecords(records, problems);
-  if (issues.length > 0) fail(issues);
-  return table;
+  const all = [...csvProblems.map((p) => ({ row: p.record, message: p.message })), ...issues];
+  if (all.length > 0) fail(all.sort((a, b) => (a.row ?? 0) - (b.row ?? 0)));
+  return { detailColumns: checker!.detailColumns };
 }
+
+const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
 
 /**
  * Checks a site table already split into records (header first) and returns every issue, not
@@ -111,10 +137,30 @@ export function parseSiteTable(csv: string): SiteTable {
  * complete exactly when `issues` is empty. Header problems stop the row checks.
  */
 export function inspectSiteRecords(records: string[][], problems: InputIssue[] = []): { table: SiteTable; issues: InputIssue[] } {
-  const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
   if (records.length === 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues: [{ row: 1, message: 'expected a header row, got none' }] };
-  const header = records[0]!.map((h) => h.trim());
   const issues: InputIssue[] = [...problems];
+  const checker = siteRowChecker(records[0]!, issues);
+  if (records.length === 1) issues.push({ row: 2, message: 'expected at least one site row, got none' });
+  if (!checker || records.length === 1) return { table: { sites: [], detailColumns: [], rows: [] }, issues };
+  const sites: Site[] = [];
+  const rows: number[] = [];
+  for (let r = 1; r < records.length; r++) {
+    const site = checker.check(records[r]!, r + 1);
+    if (!site) continue;
+    sites.push(site);
+    rows.push(r + 1);
+  }
+  return { table: { sites, detailColumns: checker.detailColumns, rows }, issues };
+}
+
+/**
+ * The checks of one table, a row at a time: the header is checked at once (null, with its
+ * issues pushed, when it cannot be used); `check` returns a row's site, or null when the row is
+ * blank or has issues (pushed onto `issues`). Repeated ids are found across all rows checked.
+ */
+function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailColumns: string[]; check(cells: string[], row: number): Site | null } | null {
+  const header = headerCells.map((h) => h.trim());
+  const before = issues.length;
   const position = new Map<string, number>();
   header.forEach((h, i) => {
     const key = h.toLowerCase();
@@ -131,48 +177,43 @@ export function inspectSiteRecords(records: string[][], problems: InputIssue[] =
       });
     }
   }
-  if (records.length === 1) issues.push({ row: 2, message: 'expected at least one site row, got none' });
-  if (issues.length > 0) return { table: { sites: [], detailColumns: [], rows: [] }, issues };
-
+  if (issues.length > before) return null;
   const at = (key: string) => position.get(key);
-  const nameAt = at('name');
-  const special = new Set([at('id'), at('lat'), at('lon'), nameAt]);
+  const [idAt, latAt, lonAt, nameAt] = [at('id')!, at('lat')!, at('lon')!, at('name')];
+  const special = new Set([idAt, latAt, lonAt, nameAt]);
   const detailAt = header.map((_, i) => i).filter((i) => !special.has(i));
   const detailColumns = detailAt.map((i) => header[i]!);
   const firstRowOfId = new Map<string, number>();
-  const sites: Site[] = [];
-  const rows: number[] = [];
-  for (let r = 1; r < records.length; r++) {
-    const row = r + 1;
-    const cells = records[r]!;
-    if (isBlank(cells) && header.length > 1) continue; // blank lines carry no site
-    if (cells.length !== header.length) {
-      issues.push({ row, message: `expected ${header.length} fields, got ${cells.length}` });
-      continue;
-    }
-    const parsed = RowSchema.safeParse({ id: cells[at('id')!], lat: cells[at('lat')!], lon: cells[at('lon')!] });
-    // Repeated ids are checked even on rows with other problems, so one pass finds them all.
-    const id = cells[at('id')!]!.trim();
-    const seen = id === '' ? undefined : firstRowOfId.get(id);
-    if (seen !== undefined) {
-      issues.push({ row, column: header[at('id')!]!, message: `id "${id}" repeats the id of row ${seen}` });
-    } else if (id !== '') {
-      firstRowOfId.set(id, row);
-    }
-    if (!parsed.success) {
-      for (const issue of parsed.error.issues) {
-        const key = String(issue.path[0] ?? '');
-        issues.push({ row, column: header[at(key) ?? -1] ?? key, message: issue.message });
+  return {
+    detailColumns,
+    check(cells, row) {
+      if (isBlank(cells) && header.length > 1) return null; // blank lines carry no site
+      if (cells.length !== header.length) {
+        issues.push({ row, message: `expected ${header.length} fields, got ${cells.length}` });
+        return null;
       }
-      continue;
-    }
-    if (seen !== undefined) continue;
-    const { lat, lon } = parsed.data;
-    const nameText = nameAt === undefined ? '' : cells[nameAt]!.trim();
-    // fromEntries defines own properties, so a column named "__proto__" stays a plain detail.
-    const details: Record<string, string> = Object.fromEntries(detailAt.map((i, k) => [detailColumns[k]!, cells[i]!]));
-    sites.push({ id, name: nameText === '' ? null : nameText, lat, lon, details });
-    rows.push(row);
-  }
-  return { table: { sites, detailColumns, rows }, issues };
+      const parsed = RowSchema.safeParse({ id: cells[idAt], lat: cells[latAt], lon: cells[lonAt] });
+      // Repeated ids are checked even on rows with other problems, so one pass finds them all.
+      const id = cells[idAt]!.trim();
+      const seen = id === '' ? undefined : firstRowOfId.get(id);
+      if (seen !== undefined) {
+        issues.push({ row, column: header[idAt]!, message: `id "${id}" repeats the id of row ${seen}` });
+      } else if (id !== '') {
+        firstRowOfId.set(id, row);
+      }
+      if (!parsed.success) {
+        for (const issue of parsed.error.issues) {
+          const key = String(issue.path[0] ?? '');
+          issues.push({ row, column: header[at(key) ?? -1] ?? key, message: issue.message });
+        }
+        return null;
+      }
+      if (seen !== undefined) return null;
+      const { lat, lon } = parsed.data;
+      const nameText = nameAt === undefined ? '' : cells[nameAt]!.trim();
+      // fromEntries defines own properties, so a column named "__proto__" stays a plain detail.
+      const details: Record<string, string> = Object.fromEntries(detailAt.map((i, k) => [detailColumns[k]!, cells[i]!]));
+      return { id, name: nameText === '' ? null : nameText, lat, lon, details };
+    },
+  };
 }
