@@ -1,6 +1,6 @@
 import { and, eq } from 'drizzle-orm';
 import { buildFromColumns } from '../../core/build/build-version.ts';
-import { readSiteColumns } from '../../core/build/site-columns.ts';
+import { readSiteColumns, type SiteColumns } from '../../core/build/site-columns.ts';
 import { explainChoice, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import type { Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
@@ -42,25 +42,27 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     await hooks.onStage?.(name);
   };
   await stage('reading');
-  const csv = await getBlobText(env, version.tableKey);
-  if (csv === null) throw new Error(`site table blob ${version.tableKey} is missing`);
-  // Columns, not Site objects: a 100,000-site table then fits an isolate with room to spare.
-  const sites = readSiteColumns(csv);
+  // Columns, not Site objects, and the text let go of once read: a 100,000-site table fits an
+  // isolate's 128 MB with room to spare (test/core/build/isolate-memory.test.ts).
+  const sites = await siteColumnsOf(env, version.tableKey);
   await stage('building');
   const detailsSecret = await versionDetailsSecret(db, version);
   const built = await buildFromColumns(
     sites,
     { dataset: dataset.slug, version: version.number, layout, maxK, detailsSecret },
-    { onProgress: progressWriter(db, dataset.id, version.number), pause: isolatePause() },
+    {
+      onProgress: progressWriter(db, dataset.id, version.number),
+      pause: isolatePause(),
+      // Stored as soon as they are sealed (content-addressed, like the matrix): not held through the layout.
+      storeDetails: async (blobs) => {
+        await putBlob(env, blobKeys.matrix(blobs.matrixHash), blobs.matrixBlob);
+        await putBlob(env, blobKeys.sealed(blobs.sealedHash), blobs.sealedFile);
+      },
+    },
   );
   await stage('writing-matrix');
   const matrixKey = blobKeys.matrix(built.manifest.contentHash);
   await putBlob(env, matrixKey, built.matrixBlob);
-  const details = built.manifest.details;
-  if (built.details && details) {
-    await putBlob(env, blobKeys.matrix(details.matrix.contentHash), built.details.matrixBlob);
-    await putBlob(env, blobKeys.sealed(details.sealedHash), built.details.sealedFile);
-  }
   // A veiled layout's partition matrix: content-addressed like the cell matrix; the manifest names its hash.
   const partitionKey = built.partition && built.manifest.partition ? blobKeys.matrix(built.manifest.partition.contentHash) : null;
   if (partitionKey) await putBlob(env, partitionKey, built.partition!.blob);
@@ -88,6 +90,13 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     .returning({ number: versions.number });
   if (done.length === 0) throw new Error(`version ${version.number} left "building" while it was built (a stale delivery); not marked ready`);
   return summary;
+}
+
+/** The version's site table, read into columns (its text is dropped as soon as they are made). */
+async function siteColumnsOf(env: Env, tableKey: string): Promise<SiteColumns> {
+  const csv = await getBlobText(env, tableKey);
+  if (csv === null) throw new Error(`site table blob ${tableKey} is missing`);
+  return readSiteColumns(csv);
 }
 
 export async function sha256Hex(bytes: Uint8Array<ArrayBuffer>): Promise<string> {

@@ -75,6 +75,11 @@ export interface BuildOptions {
    * can let other work run: the Worker's build lets requests on the same isolate through.
    */
   pause?: () => void | Promise<void>;
+  /**
+   * Stores the sealed file and the details matrix as soon as they are made; the build then keeps
+   * neither (BuildResult.details is absent), so their memory is free while the layout is built.
+   */
+  storeDetails?: (blobs: { sealedFile: Uint8Array<ArrayBuffer>; sealedHash: string; matrixBlob: Uint8Array<ArrayBuffer>; matrixHash: string }) => Promise<void>;
 }
 
 /**
@@ -109,7 +114,7 @@ export interface BuildMeta {
 /**
  * buildVersion on the columns of a table (site-columns.ts): what the Worker's build runs, reading
  * its CSV straight into columns so a large table fits an isolate. The same result as buildVersion
- * on the same table.
+ * on the same table. Consumes `sites.records`: they are dropped once sealed.
  */
 export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, options: BuildOptions = {}): Promise<BuildResult> {
   const started = performance.now();
@@ -134,7 +139,7 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
     await report(stage, at);
     await options.pause?.();
   };
-  const details = meta.detailsSecret === undefined ? undefined : await buildDetails(sites, meta.detailsSecret, (share) => checkpoint('details', 10 * share));
+  const details = meta.detailsSecret === undefined ? undefined : await detailsStep(sites, meta.detailsSecret, options, (share) => checkpoint('details', 10 * share));
   const { codes, points, slotBits, siteOnes } = layoutInputs(sites.lats, sites.lons);
   const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
   const { chosen: choice, tried } = await runStepsPaused(
@@ -180,26 +185,7 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
       plan: planRecord(planned),
     },
     siteIds: sites.ids,
-    ...(details
-      ? {
-          details: {
-            columns: details.columns,
-            recordBytes: details.recordBytes,
-            sealedRecordBytes: details.sealedRecordBytes,
-            sealedHash: details.sealedHash,
-            sealedBytes: details.sealedFile.length,
-            keyBits: 128 as const,
-            keysPerColumn: details.keysPerColumn,
-            matrix: {
-              contentHash: details.matrixHash,
-              rows: details.matrix.rows,
-              columns: details.matrix.columns,
-              ones: countOnes(details.matrix),
-              plan: planRecord(details.plan),
-            },
-          },
-        }
-      : {}),
+    ...(details ? { details: details.manifest } : {}),
     ...(partitionRecord ? { partition: partitionRecord } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
@@ -208,7 +194,7 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
     manifest,
     matrix,
     matrixBlob,
-    ...(details ? { details: { sealedFile: details.sealedFile, matrix: details.matrix, matrixBlob: details.matrixBlob } } : {}),
+    ...(details?.kept ? { details: details.kept } : {}),
     ...(partition && partitionBlob ? { partition: { matrix: partition, blob: partitionBlob } } : {}),
     stats: {
       regions: choice.lists.length,
@@ -239,13 +225,18 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
  */
 export function layoutInputs(siteLats: ArrayLike<number>, siteLons: ArrayLike<number>) {
   const n = siteLats.length;
-  const codes = Array.from({ length: n }, (_, s) => [quantiseLat(siteLats[s]!), quantiseLon(siteLons[s]!)] as const);
-  const lats = Float64Array.from(codes, ([lat]) => dequantiseLat(lat));
-  const lons = Float64Array.from(codes, ([, lon]) => dequantiseLon(lon));
+  // Quantised lat and lon of site s at 2s and 2s + 1.
+  const codes = new Int32Array(2 * n);
+  for (let s = 0; s < n; s++) {
+    codes[2 * s] = quantiseLat(siteLats[s]!);
+    codes[2 * s + 1] = quantiseLon(siteLons[s]!);
+  }
+  const lats = Float64Array.from({ length: n }, (_, s) => dequantiseLat(codes[2 * s]!));
+  const lons = Float64Array.from({ length: n }, (_, s) => dequantiseLon(codes[2 * s + 1]!));
   const points = buildSitePoints(lats, lons);
   const slotBits = recordLayout(n, 1).slotBits;
   // 1-bits of each site's slot (index + 1, then the two codes): what a list entry adds to the matrix.
-  const siteOnes = Int32Array.from(codes, ([lat, lon], s) => popcount(s + 1) + popcount(lat) + popcount(lon));
+  const siteOnes = Int32Array.from({ length: n }, (_, s) => popcount(s + 1) + popcount(codes[2 * s]!) + popcount(codes[2 * s + 1]!));
   return { codes, points, slotBits, siteOnes };
 }
 
@@ -257,6 +248,30 @@ export function checkBuildRequest(sites: Pick<SiteColumns, 'lats' | 'lons'>, lay
   if (layout !== 'grid') return;
   const { points, slotBits, siteOnes } = layoutInputs(sites.lats, sites.lons);
   checkLayoutFits(points, slotBits, siteOnes, layout, { k: maxK, memoryBudgetBytes });
+}
+
+/**
+ * Seals the records and lays out the details matrix, then lets go of what the rest of the build
+ * does not need: the records (sites.records is emptied: a build consumes them) and, when the
+ * caller stores the details itself (options.storeDetails), the sealed file and the matrix.
+ */
+async function detailsStep(sites: SiteColumns, secret: Uint8Array, options: BuildOptions, checkpoint: (share: number) => Promise<void>) {
+  const built = await buildDetails(sites, secret, checkpoint);
+  sites.records = { bytes: new Uint8Array(0), offsets: new Uint32Array(1), longest: 0 };
+  const manifest: NonNullable<Manifest['details']> = {
+    columns: built.columns,
+    recordBytes: built.recordBytes,
+    sealedRecordBytes: built.sealedRecordBytes,
+    sealedHash: built.sealedHash,
+    sealedBytes: built.sealedFile.length,
+    keyBits: 128,
+    keysPerColumn: built.keysPerColumn,
+    matrix: { contentHash: built.matrixHash, rows: built.matrix.rows, columns: built.matrix.columns, ones: countOnes(built.matrix), plan: planRecord(built.plan) },
+  };
+  const blobs = { sealedFile: built.sealedFile, matrix: built.matrix, matrixBlob: built.matrixBlob };
+  if (!options.storeDetails) return { manifest, kept: blobs };
+  await options.storeDetails({ sealedFile: built.sealedFile, sealedHash: built.sealedHash, matrixBlob: built.matrixBlob, matrixHash: built.matrixHash });
+  return { manifest, kept: undefined };
 }
 
 function lengthCounts(lists: readonly Int32Array[]): number[] {

@@ -5,11 +5,11 @@ import { writeBits, type RecordLayout } from '../geo/record.ts';
 /**
  * The cell matrix of a build: region i's list, padded with empty slots to slotsPerRegion, written
  * at column floor(i / regionsPerColumn), rows from (i mod regionsPerColumn) * regionBits (see
- * packing.ts and record.ts). `codes[s]` is [quantised lat, quantised lon] of site s.
+ * packing.ts and record.ts). `codes[2s]` and `codes[2s + 1]` are site s's quantised lat and lon.
  */
 export function fillMatrix(
   lists: readonly Int32Array[],
-  codes: readonly (readonly [number, number])[],
+  codes: Int32Array,
   record: RecordLayout,
   pack: Packing,
 ): BitMatrix {
@@ -25,7 +25,8 @@ export function fillMatrix(
       const at = slot * record.slotBits;
       const site = list[slot];
       if (site === undefined) continue; // empty slots stay all zeros
-      const [lat, lon] = codes[site]!;
+      const lat = codes[2 * site]!;
+      const lon = codes[2 * site + 1]!;
       writeBits(put, at, record.indexBits, site + 1);
       writeBits(put, at + record.indexBits, record.latBits, lat);
       writeBits(put, at + record.indexBits + record.latBits, record.lonBits, lon);

@@ -5,7 +5,7 @@ import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { choosePlan, type PlanChoice } from '../pir/answer-plan.ts';
 import { chooseKeysPerColumn, fillKeyMatrix } from './key-matrix.ts';
 import { padRecord } from './record-codec.ts';
-import { deriveRecordKey, GCM_TAG_BYTES, importDetailsSecret, sealRecord } from './seal.ts';
+import { deriveRecordKey, GCM_TAG_BYTES, importDetailsSecret, RECORD_KEY_BYTES, sealRecord } from './seal.ts';
 import { emptySealedFile, sealedRecordAt } from './sealed-file.ts';
 
 export interface BuiltDetails {
@@ -36,7 +36,7 @@ export async function buildDetails(sites: SiteColumns, secret: Uint8Array, check
   const count = sites.ids.length;
   const recordBytes = sites.records.longest;
   const hmac = await importDetailsSecret(secret);
-  const keys: Uint8Array[] = new Array(count);
+  const keys = new Uint8Array(count * RECORD_KEY_BYTES);
   const sealedRecordBytes = recordBytes + GCM_TAG_BYTES;
   // Sealed records go straight into the file's buffer: no array of 100,000 small ones on the heap.
   const sealedFile = emptySealedFile(count, sealedRecordBytes);
@@ -47,8 +47,9 @@ export async function buildDetails(sites: SiteColumns, secret: Uint8Array, check
       jobs.push(
         (async () => {
           const padded = padRecord(recordAt(sites, i), recordBytes);
-          keys[i] = await deriveRecordKey(hmac, i, padded);
-          sealedFile.set(await sealRecord(keys[i]!, i, padded), sealedRecordAt(count, sealedRecordBytes, i));
+          const key = await deriveRecordKey(hmac, i, padded);
+          keys.set(key, i * RECORD_KEY_BYTES);
+          sealedFile.set(await sealRecord(key, i, padded), sealedRecordAt(count, sealedRecordBytes, i));
         })(),
       );
     }

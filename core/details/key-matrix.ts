@@ -23,16 +23,20 @@ export function keyLocation(index: number, keysPerColumn: number): KeyLocation {
   return { column: Math.floor(index / keysPerColumn), rowStart: (index % keysPerColumn) * KEY_BITS, rowCount: KEY_BITS };
 }
 
-export function fillKeyMatrix(keys: readonly Uint8Array[], keysPerColumn: number): BitMatrix {
-  const m = createBitMatrix(keysPerColumn * KEY_BITS, Math.ceil(keys.length / keysPerColumn));
-  keys.forEach((key, i) => {
+/** The details matrix: `keys` holds every site's record key, RECORD_KEY_BYTES each, one after another. */
+export function fillKeyMatrix(keys: Uint8Array, keysPerColumn: number): BitMatrix {
+  const count = keys.length / RECORD_KEY_BYTES;
+  if (!Number.isInteger(count) || count < 1) throw new RangeError(`fillKeyMatrix: expected whole keys of ${RECORD_KEY_BYTES} bytes, got ${keys.length} bytes`);
+  const m = createBitMatrix(keysPerColumn * KEY_BITS, Math.ceil(count / keysPerColumn));
+  for (let i = 0; i < count; i++) {
     const { column, rowStart } = keyLocation(i, keysPerColumn);
     const word = column >>> 5;
     const mask = 1 << (column & 31);
+    const at = i * RECORD_KEY_BYTES;
     for (let b = 0; b < KEY_BITS; b++) {
-      if ((key[b >>> 3]! >>> (7 - (b & 7))) & 1) m.words[(rowStart + b) * m.wordsPerRow + word]! |= mask;
+      if ((keys[at + (b >>> 3)]! >>> (7 - (b & 7))) & 1) m.words[(rowStart + b) * m.wordsPerRow + word]! |= mask;
     }
-  });
+  }
   return m;
 }
 

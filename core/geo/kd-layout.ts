@@ -110,14 +110,21 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
   // vertex (in general position): boxes around a vertex of the k + 2 largest groups cannot list fewer.
   const groups = points.sitesAt.map((s) => s.length).sort((a, b) => b - a);
   const goal = Math.max(target, groups.slice(0, k + 2).reduce((sum, g) => sum + g, 0));
-  // Split lines are shared by two sibling boxes: resolved once, kept until the second asks.
+  // Boxes side by side across a split line may share a whole side: a piece is resolved once and
+  // kept until the second asks. Every box sharing a piece lies under the node whose split line
+  // holds it, so the pieces on a node's line are dropped once the node is done (keeping every
+  // piece to the end held tens of MB on large tables).
   const shared = new Map<string, number[]>();
+  const onLine = new Map<number, string[]>();
+  let nodeCount = 0;
   let placed = 0;
   // Cocircular sites beyond `goal` would keep boxes along their meeting point splitting: a budget
   // of boxes ends that (leaves are always sound, only longer).
   let budget = 4 * count + 256;
 
-  function* visit(box: Box, inside: Int32Array, depth: number, parentList: readonly number[] | null): Generator<number, void, undefined> {
+  const pieceKey = (seg: Segment) => `${seg.meridian ? 'm' : 'p'}${seg.fixed},${seg.from},${seg.to}`;
+  /** `sides`: the node whose split line made each side of the box (west, east, south, north), or -1 for the sphere's own edges. */
+  function* visit(box: Box, inside: Int32Array, depth: number, parentList: readonly number[] | null, sides: readonly number[]): Generator<number, void, undefined> {
     const latSpan = box.latMax - box.latMin;
     const offSpan = box.offMax - box.offMin;
     const holding = sitesIn(inside);
@@ -132,14 +139,18 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
     if (holding <= goal || final) {
       found = new Set<number>(inside);
       for (const seg of boxBoundary(box, lonStart)) {
-        const key = `${seg.meridian ? 'm' : 'p'}${seg.fixed},${seg.from},${seg.to}`;
+        const key = pieceKey(seg);
         let on = shared.get(key);
         if (on === undefined) {
           const at = new Set<number>();
           // Every place needed on the boundary is in the parent's list (the boundary lies in the parent).
           segmentLocations(points, seg, at, k, parentList ?? undefined);
           on = [...at];
-          shared.set(key, on);
+          const owner = sides[sideOf(box, seg, lonStart)]!;
+          if (owner >= 0) {
+            shared.set(key, on);
+            onLine.get(owner)!.push(key);
+          }
         } else shared.delete(key);
         for (const s of on) found.add(s);
       }
@@ -169,12 +180,25 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
         ? [{ ...box, latMax: value }, { ...box, latMin: value }]
         : [{ ...box, offMax: value }, { ...box, offMin: value }];
     const list = found === null ? null : [...found];
-    yield* visit(leftBox, Int32Array.from(left), depth + 1, list);
-    yield* visit(rightBox, Int32Array.from(right), depth + 1, list);
+    const id = nodeCount++;
+    onLine.set(id, []);
+    const [w, e, so, no] = sides;
+    const [leftSides, rightSides] = axis === 0 ? [[w!, e!, so!, id], [w!, e!, id, no!]] : [[w!, id, so!, no!], [id, e!, so!, no!]];
+    yield* visit(leftBox, Int32Array.from(left), depth + 1, list, leftSides);
+    yield* visit(rightBox, Int32Array.from(right), depth + 1, list, rightSides);
+    // Every box that could share a piece of this node's line has been visited.
+    for (const key of onLine.get(id)!) shared.delete(key);
+    onLine.delete(id);
   }
 
-  yield* visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0, null);
+  yield* visit({ latMin: -90, latMax: 90, offMin: 0, offMax: 360 }, Int32Array.from({ length: count }, (_, k) => k), 0, null, [-1, -1, -1, -1]);
   return { layout: { kind: 'kd', lonStart, nodes }, lists };
+}
+
+/** Which side of `box` a piece of boxBoundary(box) is: 0 west, 1 east, 2 south, 3 north. */
+function sideOf(box: Box, seg: Segment, lonStart: number): number {
+  if (seg.meridian) return seg.fixed === lonStart + box.offMin ? 0 : 1;
+  return seg.fixed === box.latMin ? 2 : 3;
 }
 
 /** The median of the coordinates inside (strictly between lo and hi), else the middle. */
