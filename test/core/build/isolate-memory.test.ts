@@ -1,0 +1,34 @@
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+
+/**
+ * A build must fit a Worker isolate (128 MB): the issue's budget is 100 MB of heap plus array
+ * buffers for 100,000 sites with details. The child runs the Worker's build path with V8's heap
+ * capped (old space 60 MB, young space 3 x 2 MB semi-spaces: 66 MB at most), so it dies if the
+ * build needs more; its array buffers, outside that cap, are sampled at every checkpoint.
+ */
+const HEAP_FLAGS = ['--max-old-space-size=60', '--max-semi-space-size=2'];
+const HEAP_CAP_MB = 60 + 3 * 2;
+const BUDGET_MB = 100;
+
+function buildInChild(count: number, spanDeg: number) {
+  const child = fileURLToPath(new URL('./isolate-build.child.ts', import.meta.url));
+  const run = spawnSync(process.execPath, [...HEAP_FLAGS, '--import', 'tsx', child, String(count), String(spanDeg)], { encoding: 'utf8', timeout: 240_000 });
+  expect(run.status, `the build died (heap capped at ${HEAP_CAP_MB} MB): ${run.stderr.slice(-600)}`).toBe(0);
+  return JSON.parse(run.stdout.trim().split('\n').pop()!) as { sites: number; layout: string; seconds: number; peakArrayBuffers: number; peakHeapUsed: number; hasDetails: boolean };
+}
+
+describe('a 100,000-site build with details fits an isolate (invented clustered tables)', () => {
+  it.each([
+    ['120 towns over 4 degrees (adaptive)', 4],
+    ['120 towns crowded into 1 degree', 1],
+  ])('%s: within 100 MB of heap plus array buffers', (_label, spanDeg) => {
+    const seen = buildInChild(100_000, spanDeg);
+    expect(seen.sites).toBe(100_000);
+    expect(seen.hasDetails).toBe(true);
+    const arrayBuffersMB = seen.peakArrayBuffers / 2 ** 20;
+    console.log(`100,000 sites, span ${spanDeg} deg: ${seen.layout}, ${seen.seconds.toFixed(1)} s, heap used up to ${(seen.peakHeapUsed / 2 ** 20).toFixed(0)} MB (cap ${HEAP_CAP_MB}), array buffers up to ${arrayBuffersMB.toFixed(0)} MB`);
+    expect(HEAP_CAP_MB + arrayBuffersMB).toBeLessThanOrEqual(BUDGET_MB);
+  });
+});
