@@ -1,6 +1,7 @@
 import { and, eq } from 'drizzle-orm';
 import { buildFromColumns } from '../../core/build/build-version.ts';
-import { readSiteColumns, type SiteColumns } from '../../core/build/site-columns.ts';
+import { siteColumnSteps, type SiteColumns } from '../../core/build/site-columns.ts';
+import { runStepsPaused } from '../../core/steps/steps.ts';
 import { explainChoice, type LayoutChoice } from '../../core/build/choose-layout.ts';
 import type { Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
@@ -44,7 +45,8 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
   await stage('reading');
   // Columns, not Site objects, and the text let go of once read: a 100,000-site table fits an
   // isolate's 128 MB with room to spare (test/core/build/isolate-memory.test.ts).
-  const sites = await siteColumnsOf(env, version.tableKey);
+  const pause = isolatePause();
+  const sites = await siteColumnsOf(env, version.tableKey, pause);
   await stage('building');
   const detailsSecret = await versionDetailsSecret(db, version);
   const built = await buildFromColumns(
@@ -52,7 +54,7 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
     { dataset: dataset.slug, version: version.number, layout, maxK, detailsSecret },
     {
       onProgress: progressWriter(db, dataset.id, version.number),
-      pause: isolatePause(),
+      pause,
       // Stored as soon as they are sealed (content-addressed, like the matrix): not held through the layout.
       storeDetails: async (blobs) => {
         await putBlob(env, blobKeys.matrix(blobs.matrixHash), blobs.matrixBlob);
@@ -93,10 +95,10 @@ export async function runBuild(env: Env, db: Database, dataset: DatasetRow, vers
 }
 
 /** The version's site table, read into columns (its text is dropped as soon as they are made). */
-async function siteColumnsOf(env: Env, tableKey: string): Promise<SiteColumns> {
+async function siteColumnsOf(env: Env, tableKey: string, pause: () => Promise<void> | undefined): Promise<SiteColumns> {
   const csv = await getBlobText(env, tableKey);
   if (csv === null) throw new Error(`site table blob ${tableKey} is missing`);
-  return readSiteColumns(csv);
+  return runStepsPaused(siteColumnSteps(csv), pause);
 }
 
 export async function sha256Hex(bytes: Uint8Array<ArrayBuffer>): Promise<string> {

@@ -13,7 +13,9 @@ import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
 import { checkBuildRequest } from '../../core/build/build-version.ts';
-import { readSiteColumns } from '../../core/build/site-columns.ts';
+import { siteColumnSteps } from '../../core/build/site-columns.ts';
+import { runStepsPaused } from '../../core/steps/steps.ts';
+import { isolatePause } from '../builds/isolate-pause.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
 import { queueBuild } from '../builds/queue-build.ts';
 import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
@@ -62,7 +64,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     const bytes = new Uint8Array(await c.req.arrayBuffer());
     // Read into columns as a build would (a large table fits the isolate); records over the
     // details size limit are refused now, naming their rows, not at build time.
-    const sites = readSiteColumns(new TextDecoder('utf-8', { fatal: false }).decode(bytes));
+    const sites = await runStepsPaused(siteColumnSteps(new TextDecoder('utf-8', { fatal: false }).decode(bytes)), isolatePause());
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, sites.ids.length, tableKey, c.var.principal.label);
@@ -88,7 +90,7 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     if (layout === 'grid') {
       const csv = await getBlobText(c.env, version.tableKey);
       if (csv === null) throw new ApiError(410, 'table_gone', `the site table of version ${version.number} is no longer kept`, 'version');
-      checkBuildRequest(readSiteColumns(csv), layout, maxK);
+      checkBuildRequest(await runStepsPaused(siteColumnSteps(csv), isolatePause()), layout, maxK);
     }
     await queueBuild(c.env, db, dataset, version, layout, maxK);
     await recordAudit(c, { action: 'version.build', target: `dataset ${dataset.slug} v${version.number}`, detail: { layout, maxK, queued: true } });

@@ -8,7 +8,7 @@ import { countOnes, type BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
 import { InputError } from '../errors/input-error.ts';
 import { ANSWER_MEMORY_BUDGET_BYTES, answerMemory, type PlanShape } from '../pir/answer-memory.ts';
-import { choosePlan, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
+import { choosePlanSteps, type AnswerPlan, type PlanChoice } from '../pir/answer-plan.ts';
 import { buildDetails } from '../details/build-details.ts';
 import { runStepsPaused } from '../steps/steps.ts';
 import { checkLayoutFits, chooseLayoutSteps, MEMORY_CHECK_BITS, type LayoutCandidate, type LayoutChoice, type LayoutVerdict } from './choose-layout.ts';
@@ -141,17 +141,19 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
   };
   const details = meta.detailsSecret === undefined ? undefined : await detailsStep(sites, meta.detailsSecret, options, (share) => checkpoint('details', 10 * share));
   const { codes, points, slotBits, siteOnes } = layoutInputs(sites.lats, sites.lons);
+  await checkpoint('regions', details ? 10 : 0);
   const budget = meta.memoryBudgetBytes ?? ANSWER_MEMORY_BUDGET_BYTES;
   const { chosen: choice, tried } = await runStepsPaused(
     chooseLayoutSteps(points, slotBits, siteOnes, meta.layout ?? 'auto', { weighAll: meta.weighAll === true, k: maxK, memoryBudgetBytes: budget }),
     (share) => checkpoint('regions', (details ? 10 : 0) + (details ? 70 : 80) * share),
   );
-  await report('matrix', 80);
+  await checkpoint('matrix', 80);
   const record = recordLayout(n, choice.slotsPerRegion);
   const matrix = fillMatrix(choice.lists, codes, record, choice.packing);
   const matrixBlob = encodeMatrixBlob(matrix);
-  await report('plan', 85);
-  const planned = planWithinMemory(choosePlan(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS }), matrix.rows, matrix.columns, budget);
+  await checkpoint('plan', 82);
+  const weighedPlans = await runStepsPaused(choosePlanSteps(matrix, { mined: matrix.rows * matrix.columns <= MINE_LIMIT_BITS }), (share) => checkpoint('plan', 82 + 12 * share));
+  const planned = planWithinMemory(weighedPlans, matrix.rows, matrix.columns, budget);
   const partition = choice.partition && choice.layout.kind === 'veiled' ? fillPartitionMatrix(choice.partition.records, choice.layout, choice.partition.packing) : undefined;
   const partitionBlob = partition ? encodeMatrixBlob(partition) : undefined;
   let partitionRecord: PartitionMatrix | undefined;
@@ -161,11 +163,11 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
       columns: partition.columns,
       cellsPerColumn: choice.partition!.packing.regionsPerColumn,
       ones: countOnes(partition),
-      plan: planRecord(planWithinMemory(choosePlan(partition), partition.rows, partition.columns, budget)),
+      plan: planRecord(planWithinMemory(await runStepsPaused(choosePlanSteps(partition), () => checkpoint('plan', 95)), partition.rows, partition.columns, budget)),
       contentHash: await sha256Hex(partitionBlob),
     };
   }
-  await report('hash', 97);
+  await checkpoint('hash', 97);
   const manifest = ManifestSchema.parse({
     format: 'nearveil-manifest',
     formatVersion: 1,

@@ -224,7 +224,7 @@ function* weighLayouts(
   for (const layout of grids) {
     const label = `grid ${layout.rows} x ${layout.cols}`;
     const regions = layout.rows * layout.cols + 1;
-    const seen = gridListBounds(points, layout, siteOnes);
+    const seen = yield* part(gridBoundSteps(points, layout, siteOnes), done / shares, 0);
     const lower = costed(label, layout, regions, Math.max(Math.min(k, n), seen.longest), Math.max(seen.ones, onesAtLeast(regions)), null);
     const leader = best();
     // Not built when even its lower bounds lose on cost or cannot fit (the memory grows with the lists).
@@ -292,6 +292,11 @@ function tooLarge(tried: readonly LayoutCandidate[], choice: LayoutChoice, budge
  * such list and the 1-bits of all of them (the outside region counted empty).
  */
 export function gridListBounds(points: SitePoints, g: GridLayout, siteOnes: Int32Array): { longest: number; ones: number } {
+  return runSteps(gridBoundSteps(points, g, siteOnes));
+}
+
+/** gridListBounds as steps (core/steps): checkpoints every 4,096 corners and cells (the share stays 0). */
+function* gridBoundSteps(points: SitePoints, g: GridLayout, siteOnes: Int32Array): Steps<{ longest: number; ones: number }> {
   const cells = g.rows * g.cols;
   // Places inside each cell, by counting sort.
   const cellOf = new Int32Array(points.sitesAt.length);
@@ -314,6 +319,7 @@ export function gridListBounds(points: SitePoints, g: GridLayout, siteOnes: Int3
       found.length = 0;
       pointsWithin(points.tree, x, y, z, nearestChord2(points.tree, x, y, z), found, 0);
       corner[i * (g.cols + 1) + j] = found[0]!;
+      if ((i * (g.cols + 1) + j) % 4096 === 4095) yield 0;
     }
   }
   const placeOnes = points.sitesAt.map((sites) => sites.reduce((sum, s) => sum + siteOnes[s]!, 0));
@@ -332,6 +338,7 @@ export function gridListBounds(points: SitePoints, g: GridLayout, siteOnes: Int3
     for (let o = start[c]!; o < start[c + 1]!; o++) add(order[o]!);
     for (const [di, dj] of [[0, 0], [0, 1], [1, 0], [1, 1]] as const) add(corner[(i + di) * (g.cols + 1) + j + dj]!);
     longest = Math.max(longest, sites);
+    if (c % 4096 === 4095) yield 0;
   }
   return { longest, ones };
 }

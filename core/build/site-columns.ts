@@ -1,6 +1,7 @@
 import type { InputIssue } from '../errors/input-error.ts';
 import { encodeRecord, MAX_RECORD_BYTES, RECORD_HEADER_BYTES, recordsTooLarge, recordTooLarge } from '../details/record-codec.ts';
-import { scanSiteTable, type SiteTable } from '../geo/site-table.ts';
+import { siteTableSteps, type SiteTable } from '../geo/site-table.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 /**
  * What a build keeps of a site table: ids, coordinates and every site's encoded private record,
@@ -31,8 +32,13 @@ export function recordAt(columns: SiteColumns, i: number): Uint8Array {
  * `site_table`, `site_table_too_large`, or `record_too_large` naming the rows over the limit.
  */
 export function readSiteColumns(csv: string): SiteColumns {
+  return runSteps(siteColumnSteps(csv));
+}
+
+/** readSiteColumns as steps (core/steps): a checkpoint every 2,000 rows. */
+export function* siteColumnSteps(csv: string): Steps<SiteColumns> {
   const build = columnBuilder();
-  const { detailColumns } = scanSiteTable(csv, (site, row, columns) => build.add(site, row, columns));
+  const { detailColumns } = yield* siteTableSteps(csv, (site, row, columns) => build.add(site, row, columns));
   return build.finish(detailColumns);
 }
 

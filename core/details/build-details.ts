@@ -2,7 +2,8 @@ import { sha256Hex } from '../build/sha256-hex.ts';
 import { recordAt, type SiteColumns } from '../build/site-columns.ts';
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
 import { encodeMatrixBlob } from '../matrix/matrix-blob.ts';
-import { choosePlan, type PlanChoice } from '../pir/answer-plan.ts';
+import { choosePlanSteps, type PlanChoice } from '../pir/answer-plan.ts';
+import { runStepsPaused } from '../steps/steps.ts';
 import { chooseKeysPerColumn, fillKeyMatrix } from './key-matrix.ts';
 import { padRecord } from './record-codec.ts';
 import { deriveRecordKey, GCM_TAG_BYTES, importDetailsSecret, RECORD_KEY_BYTES, sealRecord } from './seal.ts';
@@ -23,7 +24,7 @@ export interface BuiltDetails {
 }
 
 /** Records sealed at once: enough to keep WebCrypto busy, few enough to bound memory. */
-const BATCH = 512;
+const BATCH = 128;
 
 /**
  * Seals every site's record and lays out the record keys as the details matrix. Deterministic
@@ -70,6 +71,6 @@ export async function buildDetails(sites: SiteColumns, secret: Uint8Array, check
     matrix,
     matrixBlob,
     matrixHash: await sha256Hex(matrixBlob),
-    plan: choosePlan(matrix, { mined: false }),
+    plan: await runStepsPaused(choosePlanSteps(matrix, { mined: false }), () => checkpoint?.(1)),
   };
 }

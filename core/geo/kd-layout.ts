@@ -88,7 +88,7 @@ export function buildKdLayout(
   return runSteps(kdLayoutSteps(points, lonStart, target, options.k ?? 1), options.onProgress);
 }
 
-/** buildKdLayout as steps (core/steps): a checkpoint after every leaf. */
+/** buildKdLayout as steps (core/steps): a checkpoint after every 4 boxes resolved. */
 export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: number, k = 1): Steps<{ layout: KdLayout; lists: Int32Array[] }> {
   const nodes: Array<[0 | 1, number] | null> = [];
   const lists: Int32Array[] = [];
@@ -117,6 +117,7 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
   const shared = new Map<string, number[]>();
   const onLine = new Map<number, string[]>();
   let nodeCount = 0;
+  let resolved = 0;
   let placed = 0;
   // Cocircular sites beyond `goal` would keep boxes along their meeting point splitting: a budget
   // of boxes ends that (leaves are always sound, only longer).
@@ -154,8 +155,9 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
         } else shared.delete(key);
         for (const s of on) found.add(s);
       }
-      // Resolving a boundary is the costly part: a checkpoint after it, leaf or not.
-      if (sitesIn(found) > goal && !final) yield placed / count;
+      // Resolving a boundary is the costly part: a checkpoint after every 4, leaf or not (a
+      // leaf takes about half a millisecond on 100,000 clustered sites).
+      if (++resolved % 4 === 0) yield placed / count;
     }
     if (found !== null && (sitesIn(found) <= goal || final)) {
       placed += inside.length;
@@ -163,7 +165,6 @@ export function* kdLayoutSteps(points: SitePoints, lonStart: number, target: num
       const list: number[] = [];
       for (const at of found) list.push(...points.sitesAt[at]!);
       lists.push(Int32Array.from(list).sort());
-      yield placed / count;
       return;
     }
     const nearEquator = box.latMin <= 0 && box.latMax >= 0 ? 0 : Math.min(Math.abs(box.latMin), Math.abs(box.latMax));

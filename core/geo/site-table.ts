@@ -1,6 +1,7 @@
 import { z } from 'zod';
 import { InputError, type InputIssue } from '../errors/input-error.ts';
 import { csvRecords, type CsvProblem } from './csv.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 /** One site of a table. `name` is null when the column is absent or the cell empty. */
 export interface Site {
@@ -86,20 +87,25 @@ function fail(issues: InputIssue[]): never {
 export function parseSiteTable(csv: string): SiteTable {
   const sites: Site[] = [];
   const rows: number[] = [];
-  const { detailColumns } = scanSiteTable(csv, (site, row) => {
-    sites.push(site);
-    rows.push(row);
-  });
+  const { detailColumns } = runSteps(
+    siteTableSteps(csv, (site, row) => {
+      sites.push(site);
+      rows.push(row);
+    }),
+  );
   return { sites, detailColumns, rows };
 }
 
+/** Rows read between two checkpoints of siteTableSteps. */
+const ROWS_PER_CHECKPOINT = 2000;
+
 /**
- * parseSiteTable without keeping the table: `visit` sees every valid site with its spreadsheet
+ * parseSiteTable as steps (core/steps) without keeping the table: `visit` sees every valid site with its spreadsheet
  * row and the detail columns, in file order, while the text is read; nothing else of a row is kept (a build of a
  * large table holds a few columns, never every cell). The same checks and errors as
  * parseSiteTable, thrown once the whole text is read; `visit` may have seen sites by then.
  */
-export function scanSiteTable(csv: string, visit: (site: Site, row: number, detailColumns: readonly string[]) => void): { detailColumns: string[] } {
+export function* siteTableSteps(csv: string, visit: (site: Site, row: number, detailColumns: readonly string[]) => void): Steps<{ detailColumns: string[] }> {
   if (typeof csv !== 'string') throw new TypeError(`parseSiteTable: expected a string, got ${typeof csv}`);
   const csvProblems: CsvProblem[] = [];
   const records = csvRecords(csv, csvProblems);
@@ -117,6 +123,8 @@ export function scanSiteTable(csv: string, visit: (site: Site, row: number, deta
       if (!isBlank(cells)) nonBlank = true;
       const site = checker.check(cells, count + 1);
       if (site) visit(site, count + 1, checker.detailColumns);
+      // The share of the text is not known without counting ahead: progress stays at 0 here.
+      if (count % ROWS_PER_CHECKPOINT === 0) yield 0;
     }
     if (count === 0) issues.push({ row: 2, message: 'expected at least one site row, got none' });
   }

@@ -1,5 +1,6 @@
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
-import { mineMatrix, minedProducts, type MinedPlan } from './mined-plan.ts';
+import { mineSteps, minedProducts, type MinedPlan } from './mined-plan.ts';
+import { part, runSteps, type Steps } from '../steps/steps.ts';
 
 /**
  * How the server computes an answer; every plan gives the same products, only the work differs.
@@ -79,13 +80,20 @@ export interface PlanChoice {
  * matrices, whose regions repeat neighbouring sites, tend to favour mined column sets.
  */
 export function choosePlan(m: BitMatrix, options: { mined?: boolean } = {}): PlanChoice {
+  return runSteps(choosePlanSteps(m, options));
+}
+
+/** choosePlan as steps (core/steps): a checkpoint after every plan weighed and every mining round. */
+export function* choosePlanSteps(m: BitMatrix, options: { mined?: boolean } = {}): Steps<PlanChoice> {
   const weighed: Array<{ plan: AnswerPlan; products: number }> = [{ plan: { kind: 'plain' }, products: planProducts(m, { kind: 'plain' }) }];
-  for (let b = 2; b <= Math.min(MAX_BLOCK_COLUMNS, m.columns); b++) {
+  const plans = Math.min(MAX_BLOCK_COLUMNS, m.columns);
+  for (let b = 2; b <= plans; b++) {
     const plan: AnswerPlan = { kind: 'blocked', blockColumns: b };
     weighed.push({ plan, products: planProducts(m, plan) });
+    yield (b / plans) * (options.mined !== false ? 0.3 : 1);
   }
   if (options.mined !== false) {
-    const mined: AnswerPlan = { kind: 'mined', mined: mineMatrix(m) };
+    const mined: AnswerPlan = { kind: 'mined', mined: yield* part(mineSteps(m), 0.3, 0.7) };
     weighed.push({ plan: mined, products: planProducts(m, mined) });
   }
   const best = weighed.reduce((a, c) => (c.products < a.products ? c : a));

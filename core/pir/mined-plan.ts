@@ -1,4 +1,5 @@
 import type { BitMatrix } from '../matrix/bit-matrix.ts';
+import { runSteps, type Steps } from '../steps/steps.ts';
 
 /**
  * The mined plan: column sets that many rows share are multiplied once per query and reused.
@@ -24,6 +25,11 @@ const MIN_PAIR_COUNT = 3;
 const MAX_ROUNDS = 24;
 
 export function mineMatrix(m: BitMatrix): MinedPlan {
+  return runSteps(mineSteps(m));
+}
+
+/** mineMatrix as steps (core/steps): a checkpoint after every round of pair replacement. */
+export function* mineSteps(m: BitMatrix): Steps<MinedPlan> {
   let rows: Int32Array[] = [];
   for (let r = 0; r < m.rows; r++) rows.push(rowColumns(m, r));
   const rules: Array<[number, number]> = [];
@@ -36,6 +42,7 @@ export function mineMatrix(m: BitMatrix): MinedPlan {
       rules.push(splitKey(key));
     }
     rows = rows.map((row) => replacePairs(row, symbolOf));
+    yield (round + 1) / MAX_ROUNDS;
   }
   return { columns: m.columns, rules, rows };
 }
