@@ -42,6 +42,9 @@ async function buildOnce(env: Env, db: Database, job: BuildMessage, attempt: num
   if (!row || row.version.state !== 'building') return 'done';
   const attempts = maxAttempts(env);
   const where = and(eq(versions.datasetId, job.datasetId), eq(versions.number, job.version), eq(versions.state, 'building'));
+  // A build resumed after its Worker died (queue-build.ts, resumeIfSilent) comes as a new
+  // message: the row's count of attempts started keeps counting it.
+  attempt = Math.max(attempt, row.version.buildAttempts + 1);
   if (attempt > attempts) {
     await db.update(versions).set({ state: 'failed', error: `build interrupted: no attempt finished within ${attempts} deliveries` }).where(where);
     return 'done';

@@ -17,7 +17,7 @@ import { siteColumnSteps } from '../../core/build/site-columns.ts';
 import { runStepsPaused } from '../../core/steps/steps.ts';
 import { isolatePause } from '../builds/isolate-pause.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
-import { queueBuild } from '../builds/queue-build.ts';
+import { queueBuild, resumeIfSilent } from '../builds/queue-build.ts';
 import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
 import { activateVersion, graceSeconds, rollbackTarget } from './activate-version.ts';
 import { sweepVersions } from './retire-versions.ts';
@@ -52,6 +52,9 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
   .get('/datasets/:dataset/versions', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
+    const rows = await listVersions(db, dataset.id);
+    // A build whose Worker died is queued again when someone looks (see resumeIfSilent).
+    for (const row of rows) await resumeIfSilent(c.env, db, row);
     return c.json({ dataset: dataset.slug, activeVersion: dataset.activeVersion, versions: (await listVersions(db, dataset.id)).map(versionView) });
   })
   .post('/datasets/:dataset/versions', limitBody(MAX_SITE_TABLE_BYTES), async (c) => {
@@ -74,7 +77,9 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
   .get('/datasets/:dataset/versions/:version', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
-    return c.json(versionView(await findVersion(db, dataset, pathVersion(c.req.param('version')))));
+    const version = await findVersion(db, dataset, pathVersion(c.req.param('version')));
+    if (await resumeIfSilent(c.env, db, version)) return c.json(versionView(await findVersion(db, dataset, version.number)));
+    return c.json(versionView(version));
   })
   .post('/datasets/:dataset/versions/:version/build', async (c) => {
     const db = database(c.env);

@@ -3,6 +3,7 @@ import { database, type Database } from '../db/client.ts';
 import { versions } from '../db/schema.ts';
 import type { Env } from '../env.ts';
 import { blobKeys, getBlobText } from '../storage/blobs.ts';
+import { resumeIfSilent } from '../builds/queue-build.ts';
 
 /** A blob written this recently is never collected: a build may be about to point a version at it. */
 const FRESH_BLOB_SECONDS = 3600;
@@ -44,6 +45,8 @@ export async function sweepVersions(env: Env, now = new Date()): Promise<SweepRe
       if (key && (await collectMatrix(env, db, key, now))) deletedBlobs.push(key);
     }
   }
+  // Silent builds go back on the queue first; the 30-minute rule below is the last resort.
+  for (const silent of await db.select().from(versions).where(eq(versions.state, 'building'))) await resumeIfSilent(env, db, silent, now.getTime());
   const staleBefore = new Date(now.getTime() - STALE_BUILD_SECONDS * 1000).toISOString();
   const failedBuilds = await db
     .update(versions)

@@ -83,8 +83,10 @@ export const versions = sqliteTable(
     createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
     builtAt: text('built_at'),
     publishedAt: text('published_at'),
-    /** Layout asked for by the build request (auto, grid or adaptive). */
+    /** Layout asked for by the build request (auto, grid, adaptive or veiled). */
     layout: text('layout'),
+    /** k nearest asked for by the build request: a build resumed after its Worker died asks the same. */
+    buildMaxK: integer('build_max_k'),
     /** Build progress while building: the stage, its percent (0-100) and when it was last written. */
     progressStage: text('progress_stage'),
     progressPercent: integer('progress_percent'),

@@ -108,6 +108,22 @@ describe('builds on the queue', () => {
     expect(await version(t, 'builds', n)).toMatchObject({ state: 'failed', error: expect.stringMatching(/^build interrupted/) });
   });
 
+  it('a build whose message was lost (a restart) is queued again when the version is read, and then builds', async () => {
+    const db = database(apiEnv);
+    const dataset = await findDataset(db, t.tenantId, 'builds');
+    const n = await upload(t, 'builds', tinyZipCsv(8));
+    // Marked building as the build route does, but no message reaches the queue: as after a restart.
+    await markQueued(db, dataset, await findVersion(db, dataset, n), 'auto', 2);
+    expect((await version(t, 'builds', n)).progress).toMatchObject({ stage: 'queued' });
+    await env.DB.prepare('UPDATE versions SET progress_at = ? WHERE dataset_id = ? AND number = ?').bind(new Date(Date.now() - 61_000).toISOString(), dataset.id, n).run();
+    const read = await version(t, 'builds', n);
+    expect(read).toMatchObject({ state: 'building', progress: { stage: 'requeued' }, error: expect.stringMatching(/stopped reporting/) });
+    // Read again at once: queued once only.
+    expect((await version(t, 'builds', n)).progress).toMatchObject({ stage: 'requeued' });
+    const built = await waitForVersion(t, 'builds', n);
+    expect(built).toMatchObject({ state: 'ready', maxK: 2 });
+  });
+
   it('the sweep fails a build that stopped reporting progress', async () => {
     const db = database(apiEnv);
     const dataset = await findDataset(db, t.tenantId, 'builds');

@@ -1,0 +1,1 @@
+ALTER TABLE `versions` ADD `build_max_k` integer;
