@@ -21,6 +21,8 @@ export interface VersionInfo {
   progress: { stage: string; percent: number } | null;
   error: string | null;
   layout: 'grid' | 'kd' | 'veiled' | null;
+  /** Why the build chose its layout: its cost per query and what became of the others weighed. */
+  layoutReason: string | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
   /** k nearest the built matrix serves. */
   maxK: number | null;

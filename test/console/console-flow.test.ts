@@ -10,6 +10,8 @@ import { formatPrice, queryPrice } from '../../console/src/cost/tariff.ts';
 import type { Manifest } from '../../core/geo/manifest.ts';
 import { DEMO_TARIFF } from '../../scripts/dev/seed.ts';
 import { connect } from '../../sdk/client.ts';
+import { connectAdmin } from '../../sdk/admin.ts';
+import { clusteredTownsCsv } from '../../scripts/demo/clustered-towns.ts';
 import { ROOT, startProduct, type ProductServer } from '../product-server.ts';
 import { launchBrowser } from './browser.ts';
 import { fenwickSites, fenwickTsv } from './flow-data.ts';
@@ -250,6 +252,23 @@ describe('console: the data admin flow in headless Chromium', () => {
     await shot('11-rolled-back');
     const answer = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 });
     expect(answer.version).toBe(1);
+  });
+
+  it('follows a build started elsewhere (the CLI) in its row, stage and percent, until it is ready, without another reload', async () => {
+    const credentials = JSON.parse(readFileSync(join(product.env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { adminToken: string };
+    const admin = connectAdmin({ endpoint: BASE, token: credentials.adminToken });
+    // 20,000 invented sites: a build of some seconds, long enough to watch.
+    const { version } = await admin.uploadSiteTable(DATASET, clusteredTownsCsv(20_000));
+    const queued = await fetch(`${BASE}/v1/admin/datasets/${DATASET}/versions/${version}/build`, { method: 'POST', headers: { authorization: `Bearer ${credentials.adminToken}` } });
+    expect(queued.status).toBe(202);
+    await page.getByRole('button', { name: 'Refresh' }).click();
+    // No further click: the screen reads the list again while a version builds.
+    await expect.poll(() => page.locator(`tr[data-version="${version}"] .row-progress`).textContent(), { timeout: 30_000 }).toMatch(/^\s+(queued|reading|building|details|regions|matrix|plan|hash|writing-matrix|writing-manifest) · \d+%$/);
+    await shot('11b-building-elsewhere');
+    await expect.poll(() => page.locator(`tr[data-version="${version}"] .state`).textContent(), { timeout: 90_000 }).toBe('ready');
+    await expect.poll(() => page.locator(`tr[data-version="${version}"] .matrix`).getAttribute('title'), { timeout: 10_000 }).toMatch(/s per query by the cost model\) of \d+ layouts weighed/);
+    expect(await page.locator(`tr[data-version="${version}"] .row-progress`).count()).toBe(0);
+    await shot('11c-built-elsewhere');
   });
 
   it('shows the map with regions and heat, and answers a click with the region, candidates and nearest site', async () => {

@@ -20,6 +20,8 @@ export interface VersionInfo {
   /** Who uploaded it: a user's email or an admin token's label (null for older versions). */
   author: string | null;
   progress: { stage: string; percent: number } | null;
+  /** Why the build chose its layout (its cost per query, what became of the others weighed). */
+  layoutReason: string | null;
   /** Built versions: the layout kind, the k nearest served and the matrix shape. */
   layout: 'grid' | 'kd' | 'veiled' | null;
   maxK: number | null;

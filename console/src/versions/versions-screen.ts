@@ -37,6 +37,9 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   const kInput = h('input', { id: 'build-k', type: 'number', min: 1, max: 8, step: 1, value: 1 }) as HTMLInputElement;
   let versions: VersionInfo[] = [];
   let active: number | null = null;
+  // While a version is building (started here, from the CLI or by another person) the list is
+  // read again every POLL_MS, so its row shows the stage and percent and then the result.
+  let refresh: ReturnType<typeof setTimeout> | null = null;
   // Editors build; publishing and rolling back are for tenant admins (the server enforces it too).
   const mayPublish = canAdminister(ctx.signed);
 
@@ -94,12 +97,16 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   /** Reloads the list; `announce` false keeps the status line of the action that just ran. */
   async function load(announce = true): Promise<void> {
     const slug = ctx.dataset;
+    if (refresh !== null) clearTimeout(refresh);
+    refresh = null;
     if (!slug) return say('No dataset yet: create one under Site table');
     try {
       const listed = await ctx.api.versions(slug);
+      if (slug !== ctx.dataset) return;
       versions = listed.versions;
       active = listed.activeVersion;
       renderTable(slug);
+      if (versions.some((v) => v.state === 'building')) refresh = setTimeout(() => void (element.isConnected ? load(false) : undefined), POLL_MS);
       const options = () => versions.map((v) => h('option', { value: String(v.version) }, `v${v.version} · ${v.state}`));
       fromSelect.replaceChildren(...options());
       toSelect.replaceChildren(...options());
@@ -127,9 +134,16 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
           'tr',
           { 'data-version': v.version },
           h('td', {}, `v${v.version}`),
-          h('td', {}, h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state), v.error ? ` ${v.error}` : '', v.state === 'ready' && v.servedUntil ? ` (answers apps in flight until ${when(v.servedUntil)})` : ''),
+          h(
+            'td',
+            {},
+            h('span', { class: `state ${v.state}`, title: v.error ?? null }, v.state),
+            v.state === 'building' && v.progress ? buildingProgress(v.version, v.progress) : '',
+            v.error && v.state !== 'building' ? ` ${v.error}` : '',
+            v.state === 'ready' && v.servedUntil ? ` (answers apps in flight until ${when(v.servedUntil)})` : '',
+          ),
           h('td', { class: 'num' }, fmt.format(v.siteCount)),
-          h('td', { class: 'matrix' }, v.matrix ? `${fmt.format(v.matrix.rows)} × ${fmt.format(v.matrix.columns)} · ${LAYOUT_NAMES[v.layout ?? 'kd']} · k = ${v.maxK ?? 1}` : '—'),
+          h('td', { class: 'matrix', title: v.layoutReason ?? null }, v.matrix ? `${fmt.format(v.matrix.rows)} × ${fmt.format(v.matrix.columns)} · ${LAYOUT_NAMES[v.layout ?? 'kd']} · k = ${v.maxK ?? 1}` : '—'),
           h('td', { class: 'author' }, v.author ?? 'not recorded'),
           h('td', {}, when(v.createdAt)),
           h('td', {}, when(v.builtAt)),
@@ -165,9 +179,18 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
   }
 
   async function follow(slug: string, version: number): Promise<VersionInfo> {
+    let misses = 0;
     for (;;) {
       await new Promise((r) => setTimeout(r, POLL_MS));
-      const v = await ctx.api.version(slug, version);
+      let v: VersionInfo;
+      try {
+        v = await ctx.api.version(slug, version);
+        misses = 0;
+      } catch (err) {
+        // A poll lost while the server is busy is not a failed build: give it a minute.
+        if (++misses * POLL_MS < 60_000) continue;
+        throw err;
+      }
       if (v.state !== 'building') return v;
       if (v.progress) {
         progress.value = v.progress.percent;
@@ -278,6 +301,17 @@ export function versionsScreen(ctx: ConsoleContext, openInSheet: (slug: string, 
 function when(iso: string | null): string {
   if (!iso) return '—';
   return iso.replace('T', ' ').replace(/\.\d+Z?$|Z$/, '').slice(0, 16) + ' UTC';
+}
+
+/** A building version's stage and percent, inside its state cell. */
+function buildingProgress(version: number, p: { stage: string; percent: number }): HTMLElement {
+  return h(
+    'span',
+    { class: 'row-progress' },
+    ' ',
+    h('progress', { max: 100, value: p.percent, 'aria-label': `Build progress of v${version}` }),
+    ` ${p.stage} · ${Math.round(p.percent)}%`,
+  );
 }
 
 function day(iso: string | null): string {

@@ -5,6 +5,7 @@ import { CliError } from '../cli-error.ts';
 import { MAX_K } from '../../../core/geo/manifest.ts';
 import { connectionOptions, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 import { layoutOption } from './plan.ts';
+import { progressLine, type ProgressStream } from '../progress-line.ts';
 
 export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [--layout auto|grid|adaptive|veiled] [--max-k K] [--publish] [--json]
   Uploads a site table (CSV with a header; columns id, lat, lon required, name optional, every
@@ -12,9 +13,11 @@ export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [-
   --publish, makes it the active version. The dataset is created if it does not exist.
   --layout veiled publishes only a coarse grid (see \`nearveil plan\`); queries then take two rounds.
   --max-k K   build for up to the K nearest sites (1 to 8, default 1; veiled serves 1 only); lists grow with K
+  Progress (upload, each build stage with its percent, elapsed time) goes to stderr: a bar on a
+  terminal, plain lines otherwise or with --json.
   --endpoint URL, --token TOKEN   override the dev credentials (TOKEN is the tenant admin token)`;
 
-export async function importCommand(args: string[], print: (line: string) => void): Promise<void> {
+export async function importCommand(args: string[], print: (line: string) => void, progressStream: ProgressStream = process.stderr): Promise<void> {
   const { values, positionals } = parseCommand('import', args, {
     ...connectionOptions,
     dataset: { type: 'string' },
@@ -40,15 +43,29 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const conn = resolveConnection(values);
   const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
-  await admin.ensureDataset(dataset, values.name);
-  const uploaded = await admin.uploadSiteTable(dataset, new Uint8Array(csv));
-  const built = await admin.build(dataset, uploaded.version, layoutOption(values.layout), maxK);
+  const progress = progressLine(progressStream, { plain: values.json });
+  let built: Awaited<ReturnType<typeof admin.build>>;
+  let uploaded: Awaited<ReturnType<typeof admin.uploadSiteTable>>;
+  try {
+    await admin.ensureDataset(dataset, values.name);
+    progress.update(`uploading ${(csv.length / 2 ** 20).toFixed(1)} MiB`, 0);
+    uploaded = await admin.uploadSiteTable(dataset, new Uint8Array(csv));
+    progress.update('queued', 0);
+    built = await admin.build(dataset, uploaded.version, layoutOption(values.layout), maxK, {
+      pollMs: 300,
+      onProgress: (info) => progress.update(info.progress?.stage ?? 'queued', info.progress?.percent ?? 0),
+    });
+    progress.update('built', 100);
+  } finally {
+    progress.done();
+  }
   const published = values.publish ? await admin.publish(dataset, uploaded.version) : null;
   if (values.json) {
-    print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, matrix: built.matrix }));
+    print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, layout: built.layout, layoutReason: built.layoutReason, matrix: built.matrix }));
     return;
   }
   print(`Uploaded ${uploaded.siteCount} sites as version ${uploaded.version} of ${dataset}.`);
   print(`Built: matrix ${built.matrix.rows} x ${built.matrix.columns} bits, content hash ${built.contentHash?.slice(0, 16)}...`);
+  if (built.layoutReason) print(`Layout: ${built.layoutReason}.`);
   print(published ? `Published: version ${published.activeVersion} is now active.` : `Not published yet: run again with --publish, or publish from the console.`);
 }

@@ -1,10 +1,11 @@
 import { readFileSync } from 'node:fs';
-import { buildVersion, type BuildResult } from '../../../core/build/build-version.ts';
+import { buildFromColumns, type BuildResult } from '../../../core/build/build-version.ts';
+import { readSiteColumns } from '../../../core/build/site-columns.ts';
+import { progressLine, type ProgressStream } from '../progress-line.ts';
 import { LAYOUT_CHOICES, type LayoutChoice } from '../../../core/build/choose-layout.ts';
 import { LAYOUT_DISCLOSURE, LAYOUT_FLAG } from '../../../core/build/layout-disclosure.ts';
 import { COST_MODEL } from '../../../core/build/cost-model.ts';
 import { MAX_K, type PlanRecord } from '../../../core/geo/manifest.ts';
-import { parseSiteTable } from '../../../core/geo/site-table.ts';
 import { CliError } from '../cli-error.ts';
 import { integerFlag, parseCommand } from '../options.ts';
 
@@ -17,9 +18,9 @@ export const PLAN_HELP = `nearveil plan FILE [--layout auto|grid|adaptive|veiled
   round per query. auto picks the cheapest of grid and adaptive whose matrix a Worker can answer
   from (at most 64 MiB for one answer), never veiled; each layout weighed says why it was or was
   not chosen. --max-k K builds for the K nearest
-  (1 to 8), and prints a histogram of candidate list lengths.`;
+  (1 to 8), and prints a histogram of candidate list lengths. Progress goes to stderr.`;
 
-export async function planCommand(args: string[], print: (line: string) => void): Promise<void> {
+export async function planCommand(args: string[], print: (line: string) => void, progressStream: ProgressStream = process.stderr): Promise<void> {
   const { values, positionals } = parseCommand('plan', args, {
     json: { type: 'boolean', default: false },
     layout: { type: 'string', default: 'auto' },
@@ -36,8 +37,16 @@ export async function planCommand(args: string[], print: (line: string) => void)
   } catch (err) {
     throw new CliError(`cannot read ${file}: ${err instanceof Error ? err.message : String(err)}`);
   }
-  // Every kind is weighed, so the cost of each disclosure shows side by side.
-  const built = await buildVersion(parseSiteTable(text), { dataset: 'plan', version: 1, layout: layoutOption(values.layout), weighAll: true, maxK });
+  // Every kind is weighed, so the cost of each disclosure shows side by side; progress on stderr.
+  const progress = progressLine(progressStream, { plain: values.json });
+  let built: BuildResult;
+  try {
+    progress.update('reading', 0);
+    const sites = readSiteColumns(text);
+    built = await buildFromColumns(sites, { dataset: 'plan', version: 1, layout: layoutOption(values.layout), weighAll: true, maxK }, { onProgress: (p) => progress.update(p.stage, p.percent) });
+  } finally {
+    progress.done();
+  }
   const m = built.manifest;
   const chosen = built.layoutsTried.find((g) => g.chosen)!;
   if (values.json) {
