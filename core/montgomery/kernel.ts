@@ -5,6 +5,7 @@
 // One module serves 2048- and 3072-bit moduli alike.
 import { modInverse } from '../bigint/modular.ts';
 import type { ProductEngine } from '../pir/product-engine.ts';
+import type { WireNumbers } from '../pir/wire.ts';
 import { MIN_ONES_LIMBS, onesLimbs, onesSchedule, SCHEDULE_ENTRY_WORDS, type PairAreas } from './ones-schedule.ts';
 
 /**
@@ -231,6 +232,55 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
       }
       return out;
     },
+    getManyWire(first: number, count: number, out: WireNumbers, at: number) {
+      if (!Number.isSafeInteger(first) || !Number.isSafeInteger(count) || first < 0 || count < 0 || first + count > slots) {
+        throw new RangeError(`getManyWire: expected a slot range within [0, ${slots}), got ${first} + ${count}`);
+      }
+      if (!Number.isSafeInteger(at) || at < 0 || at + count > out.count) throw new RangeError(`getManyWire: expected room for ${count} numbers from ${at}, got ${out.count}`);
+      if (out.width * 8 < bitLength) throw new RangeError(`getManyWire: expected numbers of at least ${Math.ceil(bitLength / 8)} bytes, got ${out.width}`);
+      // As getMany: a product with a plain 1 leaves the Montgomery domain, in chunks of 1,024.
+      const chunk = 1024;
+      const one = Math.max(reserved, first + count);
+      grow(one + 1 + chunk);
+      writeValue(one, 1n);
+      const target = Uint32Array.from({ length: chunk }, (_, i) => one + 1 + i);
+      const ones = new Uint32Array(chunk).fill(one);
+      const source = new Uint32Array(chunk);
+      for (let start = 0; start < count; start += chunk) {
+        const size = Math.min(chunk, count - start);
+        for (let i = 0; i < size; i++) source[i] = first + start + i;
+        kernel.multiplyMany(target, source, ones, size);
+        for (let i = 0; i < size; i++) {
+          const slotAt = slotBase + (one + 1 + i) * padded;
+          // Results lie below 2n: one subtraction of n at most, on the limbs.
+          if (!limbsBelow(words, slotAt, nLimbs, limbs)) subtractLimbs(words, slotAt, nLimbs, limbs, limbBits);
+          limbsToBytes(words, slotAt, limbs, limbBits, out.bytes, out.offset + (at + start + i) * out.width, out.width);
+        }
+      }
+    },
+    setManyWire(targets: ArrayLike<number>, numbers: WireNumbers, from: number) {
+      const count = targets.length;
+      if (!Number.isSafeInteger(from) || from < 0 || from + count > numbers.count) {
+        throw new RangeError(`setManyWire: expected ${count} numbers from ${from}, got ${numbers.count}`);
+      }
+      // Plain limbs straight from the bytes, then one batched product by R^2 (as setMany).
+      const square = reserved;
+      grow(square + 1);
+      writeValue(square, rSquaredModN);
+      const out = new Uint32Array(count);
+      for (let i = 0; i < count; i++) {
+        const slot = targets[i]!;
+        checkSlotIndex('setManyWire', slot, square);
+        const at = slotBase + slot * padded;
+        if (!bytesToLimbs(numbers.bytes, numbers.offset + (from + i) * numbers.width, numbers.width, words, at, limbs, limbBits)) {
+          throw new RangeError(`setManyWire: expected number ${from + i} to fit ${limbs} limbs`);
+        }
+        words.fill(0, at + limbs, at + padded);
+        if (!limbsBelow(words, at, nLimbs, limbs)) throw new RangeError(`setManyWire: expected number ${from + i} in [0, n), got a value >= n`);
+        out[i] = slot;
+      }
+      kernel.multiplyMany(out, out, new Uint32Array(count).fill(square), count);
+    },
     set(slot: number, x: bigint) {
       checkSlotIndex('set', slot, slots);
       if (typeof x !== 'bigint') throw new TypeError(`set: expected bigint value, got ${typeof x}`);
@@ -372,4 +422,72 @@ function fromLimbs(limbs: Uint32Array, bits: number): bigint {
   }
   if (held > 0) text[--at] = HEX_CODE[buffer & 15]!;
   return BigInt('0x' + ascii.decode(text.subarray(at)));
+}
+
+/**
+ * Big-endian bytes (width of them from `start`) into `count` little-endian limbs of `bits` bits at
+ * words[at..]. Returns false when the number has set bits above the limbs.
+ */
+function bytesToLimbs(bytes: Uint8Array, start: number, width: number, words: Uint32Array, at: number, count: number, bits: number): boolean {
+  const mask = 2 ** bits - 1;
+  let buffer = 0; // below 2^(bits + 8)
+  let held = 0;
+  let j = 0;
+  let i = start + width - 1;
+  for (; i >= start && j < count; i--) {
+    buffer |= bytes[i]! << held;
+    held += 8;
+    while (held >= bits && j < count) {
+      words[at + j++] = buffer & mask;
+      buffer >>>= bits;
+      held -= bits;
+    }
+  }
+  if (j < count) {
+    words[at + j++] = buffer;
+    buffer = 0;
+    for (; j < count; j++) words[at + j] = 0;
+  }
+  if (buffer !== 0) return false;
+  for (; i >= start; i--) if (bytes[i] !== 0) return false;
+  return true;
+}
+
+/** Little-endian limbs at words[at..] to big-endian bytes, `width` of them at out[start..] (high bytes zero). */
+function limbsToBytes(words: Uint32Array, at: number, count: number, bits: number, out: Uint8Array, start: number, width: number): void {
+  let buffer = 0;
+  let held = 0;
+  let o = start + width - 1;
+  for (let j = 0; j < count && o >= start; j++) {
+    buffer |= words[at + j]! << held;
+    held += bits;
+    while (held >= 8 && o >= start) {
+      out[o--] = buffer & 0xff;
+      buffer >>>= 8;
+      held -= 8;
+    }
+  }
+  if (held > 0 && o >= start) out[o--] = buffer & 0xff;
+  for (; o >= start; o--) out[o] = 0;
+}
+
+/** True when the limbs at words[at..] hold a value below the limbs of `n` (most significant first). */
+function limbsBelow(words: Uint32Array, at: number, n: Uint32Array, count: number): boolean {
+  for (let j = count - 1; j >= 0; j--) {
+    const w = words[at + j]!;
+    if (w !== n[j]) return w < n[j]!;
+  }
+  return false;
+}
+
+/** words[at..] -= n, limb by limb with borrow (the value is at least n). */
+function subtractLimbs(words: Uint32Array, at: number, n: Uint32Array, count: number, bits: number): void {
+  const digit = 2 ** bits;
+  let borrow = 0;
+  for (let j = 0; j < count; j++) {
+    let d = words[at + j]! - n[j]! - borrow;
+    borrow = d < 0 ? 1 : 0;
+    if (d < 0) d += digit;
+    words[at + j] = d;
+  }
 }

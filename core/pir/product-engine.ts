@@ -1,4 +1,6 @@
+import { bigintToBytes, bytesToBigint } from '../bigint/bytes.ts';
 import { randomBelow } from '../bigint/random.ts';
+import { wireNumberAt, type WireNumbers } from './wire.ts';
 
 /**
  * Where the answer's modular products happen. Values live in numbered slots (in whatever form
@@ -22,6 +24,13 @@ export interface ProductEngine {
   setRandomNonZero(slot: number): void;
   /** Reads slots [first, first + count) as residues in [0, n). */
   getMany(first: number, count: number): bigint[];
+  /**
+   * Stores numbers[from + i] (big-endian wire bytes, each a value in [0, n)) in targets[i], with
+   * no BigInt made: the server's path from a query body into the engine.
+   */
+  setManyWire(targets: ArrayLike<number>, numbers: WireNumbers, from: number): void;
+  /** Writes slots [first, first + count) as residues in [0, n) into out's numbers at, at + 1, ... */
+  getManyWire(first: number, count: number, out: WireNumbers, at: number): void;
   /**
    * out[i] = left[i] * right[i] mod n for i < count. Out slots are distinct, and an out slot may
    * be read only by its own product (out[i] = left[i] updates in place).
@@ -77,6 +86,15 @@ export function createBigIntEngine(n: bigint): ProductEngine {
     getMany(first, count) {
       if (count > 0) check('getMany', first + count - 1);
       return store.slice(first, first + count);
+    },
+    setManyWire(targets, numbers, from) {
+      for (let i = 0; i < targets.length; i++) this.set(targets[i]!, bytesToBigint(wireNumberAt(numbers, from + i)));
+    },
+    getManyWire(first, count, out, at) {
+      for (let i = 0; i < count; i++) {
+        check('getManyWire', first + i);
+        out.bytes.set(bigintToBytes(store[first + i]!, out.width), out.offset + (at + i) * out.width);
+      }
     },
     multiplyMany(out, left, right, count) {
       for (let i = 0; i < count; i++) store[out[i]!] = (store[left[i]!]! * store[right[i]!]!) % n;

@@ -1,6 +1,8 @@
 import { bitLength } from '../bigint/bit-length.ts';
 import { jacobi } from '../bigint/jacobi.ts';
+import { bigintToBytes } from '../bigint/bytes.ts';
 import { InputError } from '../errors/input-error.ts';
+import type { WireNumbers } from './wire.ts';
 import { ALLOWED_MODULUS_BITS, isAllowedModulusBits, type ModulusBits } from './params.ts';
 
 /**
@@ -40,6 +42,35 @@ export function validateQuery(n: bigint, values: readonly bigint[], expectedColu
     const symbol = jacobi(y, n);
     if (symbol !== 1) {
       throw new InputError('value_jacobi', `values[${j}]`, `values[${j}]: expected Jacobi symbol +1 modulo the modulus, got ${symbol}`);
+    }
+  }
+}
+
+/**
+ * validateQuery's size and range checks on values still in their wire bytes (no BigInt per
+ * value): the modulus, the count, and 1 <= y_j < n by comparing big-endian bytes with n's. The
+ * same errors, in the same order. The Jacobi symbols are checked apart (jacobi-batch.ts).
+ * Requires values of n's byte width (decodeQueryWire gives that). Variable-time (public input).
+ */
+export function validateQueryRanges(n: bigint, values: WireNumbers, expectedColumns: number): void {
+  validateModulus(n);
+  if (values.count !== expectedColumns) {
+    throw new InputError('value_count', 'values', `values: expected ${expectedColumns} values (one per matrix column), got ${values.count}`);
+  }
+  const width = values.width;
+  const nBytes = bigintToBytes(n, width);
+  const { bytes } = values;
+  for (let j = 0; j < values.count; j++) {
+    const at = values.offset + j * width;
+    let zero = true;
+    let order = 0; // -1: y < n, 1: y > n, 0: equal so far
+    for (let i = 0; i < width; i++) {
+      const b = bytes[at + i]!;
+      if (b !== 0) zero = false;
+      if (order === 0 && b !== nBytes[i]) order = b < nBytes[i]! ? -1 : 1;
+    }
+    if (zero || order >= 0) {
+      throw new InputError('value_range', `values[${j}]`, `values[${j}]: expected 1 <= value < modulus, got ${zero ? '0' : 'a value >= modulus'}`);
     }
   }
 }

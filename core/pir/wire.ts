@@ -180,3 +180,75 @@ export function decodeModulusProof(bytes: Uint8Array): ModulusProof {
   const [n, c, d, ...roots] = readNumbers(bytes, WIRE_HEADER_BYTES, k, count + PROOF_HEAD_NUMBERS);
   return { n: n!, c: c!, d: d!, roots };
 }
+
+/**
+ * Numbers as they lie in a wire body: `count` big-endian numbers of `width` bytes, the first at
+ * `offset` in `bytes`. The server's answer path reads query values and writes answer rows in this
+ * form, straight into and out of its product engine, never as BigInt or hex.
+ */
+export interface WireNumbers {
+  readonly bytes: Uint8Array;
+  readonly offset: number;
+  readonly width: number;
+  readonly count: number;
+}
+
+/** The bytes of number i of `numbers` (a view, no copy). RangeError outside [0, count). */
+export function wireNumberAt(numbers: WireNumbers, i: number): Uint8Array {
+  if (!Number.isSafeInteger(i) || i < 0 || i >= numbers.count) throw new RangeError(`wireNumberAt: expected index in [0, ${numbers.count}), got ${i}`);
+  const at = numbers.offset + i * numbers.width;
+  return numbers.bytes.subarray(at, at + numbers.width);
+}
+
+/** numbers[from, to) as their own view (a part of a fanned-out answer gets its columns this way). */
+export function sliceWireNumbers(numbers: WireNumbers, from: number, to: number): WireNumbers {
+  if (!Number.isSafeInteger(from) || !Number.isSafeInteger(to) || from < 0 || to < from || to > numbers.count) {
+    throw new RangeError(`sliceWireNumbers: expected 0 <= from <= to <= ${numbers.count}, got ${from}, ${to}`);
+  }
+  return { bytes: numbers.bytes, offset: numbers.offset + from * numbers.width, width: numbers.width, count: to - from };
+}
+
+/** The numbers as BigInts (for the reference engine and tests; the answer path never needs them). */
+export function wireNumbersToBigints(numbers: WireNumbers): bigint[] {
+  return Array.from({ length: numbers.count }, (_, i) => bytesToBigint(wireNumberAt(numbers, i)));
+}
+
+/**
+ * A query body read without making a BigInt per value: its modulus and its values in place.
+ * The same checks and errors as decodeQuery.
+ */
+export function decodeQueryWire(bytes: Uint8Array): { n: bigint; values: WireNumbers } {
+  const { k, count } = readHeader(bytes, QUERY_MAGIC, 'Query', 1);
+  const n = bytesToBigint(bytes.subarray(WIRE_HEADER_BYTES, WIRE_HEADER_BYTES + k));
+  return { n, values: { bytes, offset: WIRE_HEADER_BYTES + k, width: k, count } };
+}
+
+/**
+ * An answer body of `rows` rows of width k with its header written, and the place its rows go
+ * (an engine writes them there with getManyWire).
+ */
+export function answerBody(k: number, rows: number): { body: Uint8Array<ArrayBuffer>; rows: WireNumbers } {
+  if (!Number.isSafeInteger(k) || k < 1 || k > MAX_WIDTH) throw new RangeError(`answerBody: expected integer k in [1, ${MAX_WIDTH}], got ${k}`);
+  checkCount('answerBody', 'row count', rows);
+  const body = new Uint8Array(WIRE_HEADER_BYTES + k * rows);
+  writeHeader(body, ANSWER_MAGIC, k, rows);
+  return { body, rows: { bytes: body, offset: WIRE_HEADER_BYTES, width: k, count: rows } };
+}
+
+/** An answer body's rows in place, after the checks of decodeAnswer. */
+export function decodeAnswerWire(bytes: Uint8Array): WireNumbers {
+  const { k, count } = readHeader(bytes, ANSWER_MAGIC, 'Answer', 0);
+  return { bytes, offset: WIRE_HEADER_BYTES, width: k, count };
+}
+
+/** A query body of modulus n and the given values (already in place as wire numbers of n's width). */
+export function queryBodyOf(n: bigint, values: WireNumbers): Uint8Array<ArrayBuffer> {
+  const k = modulusBytes('queryBodyOf', bitLength(n));
+  if (values.width !== k) throw new RangeError(`queryBodyOf: expected values of ${k} bytes, got ${values.width}`);
+  checkCount('queryBodyOf', 'value count', values.count);
+  const out = new Uint8Array(WIRE_HEADER_BYTES + k * (values.count + 1));
+  writeHeader(out, QUERY_MAGIC, k, values.count);
+  out.set(bigintToBytes(n, k), WIRE_HEADER_BYTES);
+  out.set(values.bytes.subarray(values.offset, values.offset + k * values.count), WIRE_HEADER_BYTES + k);
+  return out;
+}
