@@ -2,9 +2,10 @@ import type { Context } from 'hono';
 import type { PlanRecord } from '../../core/geo/manifest.ts';
 import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../../core/pir/fan-out.ts';
 import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
-import { answerWithPlan } from '../../core/pir/planned-answer.ts';
-import { validateModulus, validateQuery } from '../../core/pir/validate.ts';
-import { decodeQuery, decodeQueryModulus, encodeAnswer, queryByteLength } from '../../core/pir/wire.ts';
+import { valuesHaveJacobiOne } from '../../core/pir/jacobi-batch.ts';
+import { answerIntoWire, noPhases } from '../../core/pir/planned-answer.ts';
+import { validateModulus, validateQuery, validateQueryRanges } from '../../core/pir/validate.ts';
+import { answerBody, decodeQueryWire, queryByteLength, wireNumbersToBigints } from '../../core/pir/wire.ts';
 import type { Database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
@@ -15,6 +16,7 @@ import { recordAnsweredQuery } from '../metering/record-usage.ts';
 import { requireProvenModulus } from '../moduli/proven-moduli.ts';
 import { answerByParts } from './fanned-answer.ts';
 import { productEngine } from './product-engine.ts';
+import { phaseClock } from './phase-clock.ts';
 import { answerPlanFor, loadMatrix } from './version-cache.ts';
 
 /** A bit matrix a version answers column queries on: its cell matrix or its details matrix. */
@@ -31,6 +33,11 @@ export interface AnswerTarget {
  * Reads, checks and answers one PIR query on `target`, takes a quota slot, meters it and returns
  * the answer in the wire format (core/pir/WIRE.md). Shared by the locate and details rounds: to
  * the server both are one column of a bit matrix, and both count as one query.
+ *
+ * The values never become BigInts: they are range-checked on their bytes, their Jacobi symbols
+ * checked by random subset products on the kernel (core/pir/jacobi-batch.ts), moved into the
+ * kernel from the body and the answer rows written straight into the answer body. The
+ * Server-Timing header gives the whole time first (what the SDK reads), then each phase.
  */
 export async function answerColumnQuery(
   c: Context<AppBindings>,
@@ -41,13 +48,21 @@ export async function answerColumnQuery(
   const largest = queryByteLength(Math.max(...ALLOWED_MODULUS_BITS), target.columns);
   // The exact size a query on this matrix can have, checked as the body streams in.
   const body = await readLimitedBytes(c.req.raw, largest);
-  const started = performance.now();
+  const clock = phaseClock();
+  const { n, values } = decodeQueryWire(body);
+  clock.lap('decode');
   // Only a proven modulus leaves one bit per answer row (core/modulus-proof): checked first.
-  const modulus = decodeQueryModulus(body);
-  validateModulus(modulus);
-  await requireProvenModulus(db, modulus);
-  const { n, values } = decodeQuery(body);
-  validateQuery(n, values, target.columns);
+  validateModulus(n);
+  await requireProvenModulus(db, n);
+  clock.skip();
+  validateQueryRanges(n, values, target.columns);
+  const engine = productEngine(n);
+  if (!valuesHaveJacobiOne(values, engine, 0)) {
+    // Some value's symbol is not +1: name the first, as the one-by-one check does.
+    validateQuery(n, wireNumbersToBigints(values), target.columns);
+    throw new Error('valuesHaveJacobiOne refused a query whose every value has Jacobi symbol +1');
+  }
+  clock.lap('check');
   // The quota slot is taken only for a well-formed query, and given back if no answer goes out.
   const now = new Date();
   const month = utcMonth(now);
@@ -57,21 +72,23 @@ export async function answerColumnQuery(
       'Retry-After': String(retryAfter),
     });
   }
+  clock.skip();
   let answer: Uint8Array;
   let multiplications: number;
-  let serverMs: number;
+  const phases = noPhases();
   try {
     const matrix = await loadMatrix(c.env, target.matrixKey);
     const perPart = Number(c.env.FANOUT_PRODUCTS_PER_PART ?? DEFAULT_PRODUCTS_PER_PART);
     const parts = splitColumns(target.columns, target.plan.products, perPart);
-    const answered =
+    const out = answerBody((n.toString(2).length + 7) >> 3, matrix.rows);
+    clock.skip();
+    multiplications =
       parts.length > 1 && c.env.PARTS
-        ? await answerByParts(matrix, target.matrixKey, n, values, parts, (request) => c.env.PARTS!.rowProducts(request))
+        ? await answerByParts(matrix, target.matrixKey, n, values, parts, (request) => c.env.PARTS!.rowProducts(request), engine, out.rows, phases)
         : // The plan the build chose for this matrix (recorded in its manifest).
-          answerWithPlan(matrix, values, answerPlanFor(target.plan, target.contentHash, matrix), productEngine(n));
-    multiplications = answered.products;
-    answer = encodeAnswer((n.toString(2).length + 7) >> 3, answered.rows);
-    serverMs = performance.now() - started;
+          answerIntoWire(matrix, values, answerPlanFor(target.plan, target.contentHash, matrix), engine, out.rows, phases);
+    answer = out.body;
+    clock.add(phases);
     // Counted before the answer goes out: every answer a client receives is in the usage.
     await recordAnsweredQuery(db, { credentialId: c.var.credentialId, ...metered, bytesIn: body.length, bytesOut: answer.length, multiplications }, now);
   } catch (err) {
@@ -80,7 +97,7 @@ export async function answerColumnQuery(
   }
   return c.body(answer.buffer as ArrayBuffer, 200, {
     'Content-Type': 'application/octet-stream',
-    'Server-Timing': `${target.label};dur=${serverMs.toFixed(1)};desc="PIR answer"`,
+    'Server-Timing': clock.header(target.label),
     'X-Nearveil-Multiplications': String(multiplications),
     'Cache-Control': 'no-store',
   });

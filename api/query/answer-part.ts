@@ -1,8 +1,8 @@
 import { WorkerEntrypoint } from 'cloudflare:workers';
 import { sliceColumns } from '../../core/matrix/slice-columns.ts';
 import { partPlan } from '../../core/pir/fan-out.ts';
-import { unblindedRowProducts } from '../../core/pir/planned-answer.ts';
-import { decodeQuery, encodeAnswer } from '../../core/pir/wire.ts';
+import { unblindedIntoWire } from '../../core/pir/planned-answer.ts';
+import { answerBody, decodeQueryWire } from '../../core/pir/wire.ts';
 import type { Env } from '../env.ts';
 import { loadMatrix, matrixCache } from './version-cache.ts';
 import { productEngine } from './product-engine.ts';
@@ -39,8 +39,9 @@ export class AnswerPart extends WorkerEntrypoint<Env> {
       matrixCache.set(key, entry);
     }
     const { matrix, plan } = entry;
-    const { n, values } = decodeQuery(request.query);
-    const { rows, products } = unblindedRowProducts(matrix, values, plan ?? partPlan(matrix), productEngine(n));
-    return { rows: encodeAnswer((n.toString(2).length + 7) >> 3, rows), products };
+    const { n, values } = decodeQueryWire(request.query);
+    const out = answerBody((n.toString(2).length + 7) >> 3, matrix.rows);
+    const products = unblindedIntoWire(matrix, values, plan ?? partPlan(matrix), productEngine(n), out.rows);
+    return { rows: out.body, products };
   }
 }

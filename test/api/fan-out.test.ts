@@ -8,10 +8,10 @@ import { readColumn } from '../../core/matrix/bit-matrix.ts';
 import { decodeRows } from '../../core/pir/decode.ts';
 import { splitColumns } from '../../core/pir/fan-out.ts';
 import type { PirKeyPair } from '../../core/pir/keys.ts';
-import { answerWithPlan } from '../../core/pir/planned-answer.ts';
+import { answerWithPlan, noPhases } from '../../core/pir/planned-answer.ts';
 import { createBigIntEngine } from '../../core/pir/product-engine.ts';
 import { makeQuery } from '../../core/pir/query.ts';
-import { decodeAnswer, encodeQuery } from '../../core/pir/wire.ts';
+import { answerBody, decodeAnswer, decodeQueryWire, encodeQuery } from '../../core/pir/wire.ts';
 import { answerByParts } from '../../api/query/fanned-answer.ts';
 import { ApiError } from '../../api/http/api-error.ts';
 import { connect } from '../../sdk/client.ts';
@@ -54,6 +54,11 @@ describe('one answer split over several invocations (service binding to itself)'
       expect(Array.from(fanned)).toEqual(Array.from(single));
       expect(Array.from(fanned)).toEqual(Array.from(readColumn(matrix, column)));
       expect(Number(res.headers.get('x-nearveil-multiplications'))).toBeGreaterThan(manifest.matrix.plan.products / 2);
+      // Server-Timing: the whole time first (what clients read), then each phase (W3C Server Timing).
+      const timing = res.headers.get('server-timing')!;
+      expect(timing).toMatch(/^answer;dur=[\d.]+;desc="PIR answer", decode;dur=[\d.]+, check;dur=[\d.]+, in;dur=[\d.]+, products;dur=[\d.]+, blinding;dur=[\d.]+, out;dur=[\d.]+$/);
+      const durations = [...timing.matchAll(/dur=([\d.]+)/g)].map((m) => Number(m[1]));
+      expect(durations[0]).toBeCloseTo(durations.slice(1).reduce((a, b) => a + b, 0), 0);
     }
   });
 
@@ -68,15 +73,16 @@ describe('one answer split over several invocations (service binding to itself)'
   it('refuses with 503 and no answer when a part fails or answers the wrong shape', async () => {
     const blob = await env.BLOBS.get(`matrices/${manifest.contentHash}.nvm`);
     const matrix = decodeMatrixBlob(new Uint8Array(await blob!.arrayBuffer()));
-    const values = makeQuery(key, manifest.matrix.columns, 3);
+    const values = decodeQueryWire(encodeQuery(key.n, makeQuery(key, manifest.matrix.columns, 3))).values;
     const parts = splitColumns(matrix.columns, manifest.matrix.plan.products, perPart());
+    const out = () => answerBody(256, matrix.rows).rows;
     let calls = 0;
     const failing = () => (++calls === 2 ? Promise.reject(new Error('part crashed')) : Promise.resolve({ rows: new Uint8Array(), products: 0 }));
-    const refused = await answerByParts(matrix, 'k', key.n, values, parts, failing).catch((e: unknown) => e);
+    const refused = await answerByParts(matrix, 'k', key.n, values, parts, failing, createBigIntEngine(key.n), out(), noPhases()).catch((e: unknown) => e);
     expect(refused).toBeInstanceOf(ApiError);
     expect(refused).toMatchObject({ status: 503, code: 'part_failed' });
     const short = () => Promise.resolve({ rows: encodeAnswerRows(key.n, 3), products: 1 });
-    await expect(answerByParts(matrix, 'k', key.n, values, parts, short)).rejects.toMatchObject({ status: 503, code: 'part_failed' });
+    await expect(answerByParts(matrix, 'k', key.n, values, parts, short, createBigIntEngine(key.n), out(), noPhases())).rejects.toMatchObject({ status: 503, code: 'part_failed' });
   });
 });
 
