@@ -5,7 +5,8 @@ import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
 import { valuesHaveJacobiOne } from '../../core/pir/jacobi-batch.ts';
 import { answerIntoWire, noPhases } from '../../core/pir/planned-answer.ts';
 import { validateModulus, validateQuery, validateQueryRanges } from '../../core/pir/validate.ts';
-import { answerBody, decodeQueryWire, queryByteLength, wireNumbersToBigints } from '../../core/pir/wire.ts';
+import type { ProductEngine } from '../../core/pir/product-engine.ts';
+import { answerBody, decodeQueryWire, queryByteLength, wireNumbersToBigints, type WireNumbers } from '../../core/pir/wire.ts';
 import type { Database } from '../db/client.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
@@ -15,7 +16,7 @@ import { releaseQuotaSlot, takeQuotaSlot } from '../metering/quota.ts';
 import { recordAnsweredQuery } from '../metering/record-usage.ts';
 import { requireProvenModulus } from '../moduli/proven-moduli.ts';
 import { answerByParts } from './fanned-answer.ts';
-import { productEngine } from './product-engine.ts';
+import { acquireEngine } from './product-engine.ts';
 import { phaseClock } from './phase-clock.ts';
 import { answerPlanFor, loadMatrix } from './version-cache.ts';
 
@@ -56,7 +57,23 @@ export async function answerColumnQuery(
   await requireProvenModulus(db, n);
   clock.skip();
   validateQueryRanges(n, values, target.columns);
-  const engine = productEngine(n);
+  const { engine, release } = acquireEngine(n);
+  try {
+    return await checkAndAnswer(c, db, metered, target, { body, n, values, engine, clock });
+  } finally {
+    release();
+  }
+}
+
+/** The rest of answerColumnQuery, on an engine of its own: the Jacobi check, the quota, the answer. */
+async function checkAndAnswer(
+  c: Context<AppBindings>,
+  db: Database,
+  metered: { datasetId: string; version: number },
+  target: AnswerTarget,
+  query: { body: Uint8Array; n: bigint; values: WireNumbers; engine: ProductEngine; clock: ReturnType<typeof phaseClock> },
+): Promise<Response> {
+  const { body, n, values, engine, clock } = query;
   if (!valuesHaveJacobiOne(values, engine, 0)) {
     // Some value's symbol is not +1: name the first, as the one-by-one check does.
     validateQuery(n, wireNumbersToBigints(values), target.columns);

@@ -5,7 +5,7 @@ import { unblindedIntoWire } from '../../core/pir/planned-answer.ts';
 import { answerBody, decodeQueryWire } from '../../core/pir/wire.ts';
 import type { Env } from '../env.ts';
 import { loadMatrix, matrixCache } from './version-cache.ts';
-import { productEngine } from './product-engine.ts';
+import { acquireEngine } from './product-engine.ts';
 
 export interface PartRequest {
   /** Storage key of the matrix (content-addressed, so a part can never mix versions). */
@@ -41,7 +41,12 @@ export class AnswerPart extends WorkerEntrypoint<Env> {
     const { matrix, plan } = entry;
     const { n, values } = decodeQueryWire(request.query);
     const out = answerBody((n.toString(2).length + 7) >> 3, matrix.rows);
-    const products = unblindedIntoWire(matrix, values, plan ?? partPlan(matrix), productEngine(n), out.rows);
-    return { rows: out.body, products };
+    const { engine, release } = acquireEngine(n);
+    try {
+      const products = unblindedIntoWire(matrix, values, plan ?? partPlan(matrix), engine, out.rows);
+      return { rows: out.body, products };
+    } finally {
+      release();
+    }
   }
 }

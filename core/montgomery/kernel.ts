@@ -36,7 +36,7 @@ export function kernelBitsFor(n: bigint): 2048 | 3072 {
   throw new RangeError(`kernelBitsFor: expected a modulus of at most 3072 bits, got ${bits} bits`);
 }
 
-interface KernelExports {
+export interface KernelExports {
   memory: WebAssembly.Memory;
   multiply: (groups: number, limbs: number, slotBytes: number) => void;
   multiplyOnes: (groups: number, limbs: number, slotBytes: number, entries: number) => void;
@@ -54,6 +54,21 @@ interface KernelExports {
   index: WebAssembly.Global;
   indexCapacity: WebAssembly.Global;
   slots: WebAssembly.Global;
+}
+
+/**
+ * One instance of the kernel module: its code and its memory. A kernel for a modulus is set up
+ * over an instance (createMontgomeryKernel); an instance may serve one modulus after another, so
+ * a server keeps its memory warm instead of allocating and touching tens of MB per query. Only
+ * one kernel may use an instance at a time (its slots are that kernel's).
+ */
+export interface KernelInstance {
+  readonly exports: KernelExports;
+}
+
+/** A fresh instance of the kernel module. Throws TypeError for a module without the kernel's exports. */
+export function instantiateKernel(module: WebAssembly.Module): KernelInstance {
+  return { exports: kernelExports(module) };
 }
 
 function kernelExports(module: WebAssembly.Module): KernelExports {
@@ -87,9 +102,9 @@ function checkSlotIndex(fn: string, slot: number, slots: number): void {
  * Throws TypeError for a wrong module or argument types, RangeError for an even n, a size the
  * module does not serve, or out-of-range slots and values.
  */
-export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): MontgomeryKernel {
+export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstance, n: bigint): MontgomeryKernel {
   const size = kernelBitsFor(n);
-  const e = kernelExports(module);
+  const e = source instanceof WebAssembly.Module ? kernelExports(source) : source.exports;
   const limbBits = e.limbBits.value as number;
   // R = 2^(limbBits * L) > 4n for every n of the size, so products of values below 2n stay below 2n.
   const limbs = Math.ceil((size + 2) / limbBits);
@@ -125,6 +140,9 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
 
   // The modulus, written once: splat(n_j << 16) per limb, -n^-1 mod 2^limbBits and n_0.
   const nLimbs = toLimbs(n, limbs, limbBits);
+  // Every fixed area (modulus, scratch, pairs, schedule) starts from zeros, as in a fresh
+  // instance: an instance may have served a longer modulus before (KernelInstance).
+  words.fill(0, 0, slotBase);
   for (let j = 0; j < limbs; j++) words.fill(nLimbs[j]! << 16, (e.modulusShifted.value as number) / 4 + 4 * j, (e.modulusShifted.value as number) / 4 + 4 * j + 4);
   const digit = 2 ** limbBits;
   const negInverse = (digit - Number(modInverse(n % BigInt(digit), BigInt(digit)))) % digit;
@@ -184,7 +202,9 @@ export function createMontgomeryKernel(module: WebAssembly.Module, n: bigint): M
     ensureSlots(count: number) {
       if (!Number.isSafeInteger(count) || count < 0) throw new RangeError(`ensureSlots: expected integer count >= 0, got ${count}`);
       reserved = Math.max(reserved, count);
-      grow(count);
+      // Room above for setMany's R^2 and getMany's plain 1 and chunk too, in the same growth:
+      // every later growth of the memory would copy all of it.
+      grow(count + 2 + 1024);
     },
     setRandomNonZero(slot: number) {
       checkSlotIndex('setRandomNonZero', slot, slots);

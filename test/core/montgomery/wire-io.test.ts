@@ -1,7 +1,7 @@
 import fc from 'fast-check';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { bigintToBytes, bytesToBigint } from '../../../core/bigint/bytes.ts';
-import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
+import { createMontgomeryKernel, instantiateKernel } from '../../../core/montgomery/kernel.ts';
 import { lowOnesBits } from '../../../core/pir/low-ones-modulus.ts';
 import type { WireNumbers } from '../../../core/pir/wire.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
@@ -98,3 +98,30 @@ for (const bits of [2048, 3072] as const) {
     });
   });
 }
+
+describe('one kernel instance serving modulus after modulus (as the Worker keeps one warm)', () => {
+  it('gives BigInt and jsbn products for moduli of both sizes and both forms in turn, whatever the last one left in memory (fast-check)', () => {
+    const instance = instantiateKernel(module);
+    const moduli = fc.oneof(oddModulus(2048), oddModulus(3072), lowOnesModulus(2048), lowOnesModulus(3072));
+    fc.assert(
+      fc.property(fc.array(moduli.chain((n) => fc.tuple(fc.constant(n), fc.array(fc.tuple(operand(n), operand(n)), { minLength: 1, maxLength: 6 }))), { minLength: 2, maxLength: 5 }), (turns) => {
+        for (const [n, pairs] of turns) {
+          const k = createMontgomeryKernel(instance, n);
+          const c = pairs.length;
+          k.ensureSlots(3 * c);
+          pairs.forEach(([a, b], i) => {
+            k.set(i, a);
+            k.set(c + i, b);
+          });
+          const slots = (base: number) => Uint32Array.from({ length: c }, (_, i) => base + i);
+          k.multiplyMany(slots(2 * c), slots(0), slots(c), c);
+          pairs.forEach(([a, b], i) => {
+            expect(k.get(2 * c + i)).toBe((a * b) % n);
+            expect(k.get(2 * c + i)).toBe(jsbnProduct(a, b, n));
+          });
+        }
+      }),
+      { numRuns: 15, seed: 20261203 },
+    );
+  });
+});
