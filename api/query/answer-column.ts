@@ -1,7 +1,7 @@
 import type { Context } from 'hono';
 import type { PlanRecord } from '../../core/geo/manifest.ts';
 import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../../core/pir/fan-out.ts';
-import { ALLOWED_MODULUS_BITS } from '../../core/pir/params.ts';
+import { ALLOWED_MODULUS_BITS, PRODUCT_WEIGHT } from '../../core/pir/params.ts';
 import { valuesHaveJacobiOne } from '../../core/pir/jacobi-batch.ts';
 import { answerIntoWire, noPhases } from '../../core/pir/planned-answer.ts';
 import { validateModulus, validateQuery, validateQueryRanges } from '../../core/pir/validate.ts';
@@ -107,7 +107,9 @@ async function checkAndAnswer(
     answer = out.body;
     clock.add(phases);
     // Counted before the answer goes out: every answer a client receives is in the usage.
-    await recordAnsweredQuery(db, { credentialId: c.var.credentialId, ...metered, bytesIn: body.length, bytesOut: answer.length, multiplications }, now);
+    // Metered in 2048-bit products: a 3072-bit product weighs two (core/pir/params.ts).
+    const weighted = multiplications * PRODUCT_WEIGHT[validateModulus(n)];
+    await recordAnsweredQuery(db, { credentialId: c.var.credentialId, ...metered, bytesIn: body.length, bytesOut: answer.length, multiplications: weighted }, now);
   } catch (err) {
     await releaseQuotaSlot(db, c.var.credentialId, month).catch((e: unknown) => console.error('nearveil: quota slot not released', e));
     throw err;

@@ -68,6 +68,20 @@ describe('metering: exact under concurrency, refusals counted apart', () => {
     ]);
   });
 
+  it('meters a 3072-bit query at twice its products: the unit is the 2048-bit product (PRODUCT_WEIGHT)', async () => {
+    const wide = await registeredKey(t, { modulusBits: 3072 });
+    const used = () => env.DB.prepare('SELECT COALESCE(SUM(multiplications), 0) AS m FROM usage_daily WHERE credential_id = ?').bind(t.apiKeyId).first<{ m: number }>();
+    const before = (await used())!.m;
+    const res = await appRequest(t, 'POST', '/v1/datasets/meter-tiny/versions/1/query', encodeQuery(wide.n, makeQuery(wide, columns, 0)));
+    expect(res.status).toBe(200);
+    const done = Number(res.headers.get('x-nearveil-multiplications'));
+    expect(done).toBe(products);
+    expect((await used())!.m - before).toBe(2 * done);
+    const narrow = await appRequest(t, 'POST', '/v1/datasets/meter-tiny/versions/1/query', encodeQuery(pir.n, makeQuery(pir, columns, 0)));
+    expect(narrow.status).toBe(200);
+    expect((await used())!.m - before).toBe(3 * done);
+  });
+
   it('reads another month as empty, refuses a malformed month and another tenant', async () => {
     const empty = (await (await adminRequest(t, 'GET', '/v1/admin/usage?month=2001-02')).json()) as UsageBody;
     expect(empty).toMatchObject({ month: '2001-02', totals: { queries: 0, rejected: 0, bytesIn: 0, bytesOut: 0, multiplications: 0 }, days: [] });
