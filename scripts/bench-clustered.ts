@@ -11,6 +11,8 @@ export interface WorkerBuildFigures {
   seconds: number;
   cpuSeconds: number;
   peakArrayBuffers: number;
+  /** Build stage at which the array buffers peaked. */
+  peakStage: string;
   peakHeapUsed: number;
   hasDetails: boolean;
   matrix: { rows: number; columns: number; products: number; plan: string };

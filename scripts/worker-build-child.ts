@@ -13,8 +13,11 @@ const [first, second] = process.argv.slice(2);
 const fromFile = first !== undefined && !/^\d+$/.test(first);
 let peakArrayBuffers = 0;
 let peakHeapUsed = 0;
+let stage = 'reading';
+let peakStage = stage;
 const sample = () => {
   const m = process.memoryUsage();
+  if (m.arrayBuffers > peakArrayBuffers) peakStage = stage;
   peakArrayBuffers = Math.max(peakArrayBuffers, m.arrayBuffers);
   peakHeapUsed = Math.max(peakHeapUsed, m.heapUsed);
 };
@@ -27,7 +30,7 @@ const cpu = process.cpuUsage();
 const built = await buildFromColumns(
   sites,
   { dataset: 'isolate', version: 1, detailsSecret: new Uint8Array(32).fill(7) },
-  { onProgress: sample, pause: () => new Promise<void>((resolve) => setImmediate(resolve)), storeDetails: async () => sample() },
+  { onProgress: (p) => { stage = p.stage; sample(); }, pause: () => new Promise<void>((resolve) => setImmediate(resolve)), storeDetails: async () => sample() },
 );
 sample();
 const spent = process.cpuUsage(cpu);
@@ -40,6 +43,7 @@ console.log(
     seconds: (performance.now() - started) / 1000,
     cpuSeconds: (spent.user + spent.system) / 1e6,
     peakArrayBuffers,
+    peakStage,
     peakHeapUsed,
     hasDetails: built.manifest.details !== undefined,
     matrix: { rows: m.rows, columns: m.columns, products: m.plan.products, plan: m.plan.kind },
