@@ -40,7 +40,8 @@ import { answerWithPlan } from '../core/pir/planned-answer.ts';
 import { answerMemory, planShapeOf } from '../core/pir/answer-memory.ts';
 import { DEFAULT_PRODUCTS_PER_PART, splitColumns } from '../core/pir/fan-out.ts';
 import { makeQuery } from '../core/pir/query.ts';
-import { decodeAnswer, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { decodeAnswer, decodeAnswerWire, encodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { candidatesFromAnswer } from '../sdk/region-answer.ts';
 import { detailsKeyLocation, openRecord } from '../core/details/open-record.ts';
 import { decodeSealedFile } from '../core/details/sealed-file.ts';
 import type { Manifest } from '../core/geo/manifest.ts';
@@ -203,8 +204,7 @@ async function dataset(label: string, sites: Site[], key: PirKeyPair, bigintNs: 
   const queryMs = ms(t);
   const answerBytes = encodeAnswer(256, answerWithPlan(built.matrix, makeQuery(key, m.matrix.columns, region.column), plan, kernelEngine(key.n)).rows);
   t = performance.now();
-  const rows = decodeAnswer(answerBytes).rows;
-  const found = nearestCandidates(decodeCandidates(m, decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount)), site.lat, site.lon)[0]!;
+  const found = nearestCandidates(candidatesFromAnswer(key, m, decodeAnswerWire(answerBytes), region).candidates, site.lat, site.lon)[0]!;
   const clientMs = queryMs + ms(t);
   if (found.distanceMeters > 2) throw new Error(`bench: ${label} did not find the site at its own position`);
   // Working memory of one answer: measured kernel memory next to the model the build checks.

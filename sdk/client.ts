@@ -1,13 +1,13 @@
-import { decodeCandidates, nearestCandidates } from '../core/geo/candidates.ts';
+import { nearestCandidates } from '../core/geo/candidates.ts';
 import { locateRegion } from '../core/geo/locate.ts';
 import { ManifestSchema, MAX_K, type Manifest } from '../core/geo/manifest.ts';
-import { decodeRows } from '../core/pir/decode.ts';
 import type { PirKeyPair } from '../core/pir/keys.ts';
 import { DEFAULT_MODULUS_BITS } from '../core/pir/params.ts';
 import { makeQuery } from '../core/pir/query.ts';
-import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { decodeAnswerWire, encodeQuery } from '../core/pir/wire.ts';
 import type { SiteRecord } from '../core/details/record-codec.ts';
 import { checkKeyLifetime, memoryKeyStore, type ClientKeyStore, type KeyLifetime } from './client-key.ts';
+import { candidatesFromAnswer } from './region-answer.ts';
 import { fetchRecords, memorySealedCache, type DetailsCost, type SealedFileCache } from './details-round.ts';
 import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
 import { keyKeeper, type KeyReadyCost } from './key-keeper.ts';
@@ -128,13 +128,13 @@ export function connect(options: ConnectOptions): NearveilClient {
     const response = await send(http, 'POST', path, body, 'application/octet-stream');
     const answerBytes = new Uint8Array(await response.arrayBuffer());
     const t2 = performance.now();
-    const { rows } = decodeAnswer(answerBytes);
-    if (rows.length !== m.matrix.rows) {
-      throw new NearveilError(0, 'answer_shape', `answer has ${rows.length} rows, manifest says ${m.matrix.rows}`);
+    const rows = decodeAnswerWire(answerBytes);
+    if (rows.count !== m.matrix.rows) {
+      throw new NearveilError(0, 'answer_shape', `answer has ${rows.count} rows, manifest says ${m.matrix.rows}`);
     }
-    const bits = decodeRows(key, rows, region.rowStart, region.rowStart + region.rowCount);
+    const { candidates } = candidatesFromAnswer(key, m, rows, region);
     // Exact: the region's list holds every site among the maxK nearest of any of its points.
-    const found = nearestCandidates(decodeCandidates(m, bits), point.lat, point.lon, k);
+    const found = nearestCandidates(candidates, point.lat, point.lon, k);
     const clientMs = t1 - t0 + (performance.now() - t2) + (first?.cost.clientMs ?? 0);
     const serverMs = serverTimingMs(response);
     const firstServerMs = first ? first.cost.serverMs : 0;

@@ -6,7 +6,7 @@ import type { Manifest } from '../core/geo/manifest.ts';
 import { decodeRows } from '../core/pir/decode.ts';
 import type { PirKeyPair } from '../core/pir/keys.ts';
 import { makeQuery } from '../core/pir/query.ts';
-import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { decodeAnswerWire, encodeQuery } from '../core/pir/wire.ts';
 import { NearveilError, send, serverTimingMs, type HttpOptions } from './http.ts';
 
 /** Where a client keeps sealed files between runs (the CLI keeps them on disk); keyed by SHA-256. */
@@ -70,9 +70,9 @@ export async function fetchRecords(
     const response = await send(http, 'POST', `${base}/query`, body, 'application/octet-stream');
     const answer = new Uint8Array(await response.arrayBuffer());
     const t1 = performance.now();
-    const { rows } = decodeAnswer(answer);
-    if (rows.length !== details.matrix.rows) {
-      throw new NearveilError(0, 'answer_shape', `details answer has ${rows.length} rows, manifest says ${details.matrix.rows}`);
+    const rows = decodeAnswerWire(answer);
+    if (rows.count !== details.matrix.rows) {
+      throw new NearveilError(0, 'answer_shape', `details answer has ${rows.count} rows, manifest says ${details.matrix.rows}`);
     }
     const bits = decodeRows(key, rows, where.rowStart, where.rowStart + where.rowCount);
     clientMs += performance.now() - t1;

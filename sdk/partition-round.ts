@@ -4,7 +4,7 @@ import { readRecord, type PartitionRecord } from '../core/geo/veiled-layout.ts';
 import { decodeRows } from '../core/pir/decode.ts';
 import type { PirKeyPair } from '../core/pir/keys.ts';
 import { makeQuery } from '../core/pir/query.ts';
-import { decodeAnswer, encodeQuery } from '../core/pir/wire.ts';
+import { decodeAnswerWire, encodeQuery } from '../core/pir/wire.ts';
 import { NearveilError, send, serverTimingMs, type HttpOptions } from './http.ts';
 
 /** What the first round of a veiled layout cost (it is metered like any query). */
@@ -42,9 +42,9 @@ export async function fetchCellRecord(
   const response = await send(http, 'POST', path, body, 'application/octet-stream');
   const answerBytes = new Uint8Array(await response.arrayBuffer());
   const t2 = performance.now();
-  const { rows } = decodeAnswer(answerBytes);
-  if (rows.length !== partition.rows) {
-    throw new NearveilError(0, 'answer_shape', `partition answer has ${rows.length} rows, manifest says ${partition.rows}`);
+  const rows = decodeAnswerWire(answerBytes);
+  if (rows.count !== partition.rows) {
+    throw new NearveilError(0, 'answer_shape', `partition answer has ${rows.count} rows, manifest says ${partition.rows}`);
   }
   const record = readRecord(manifest.layout, decodeRows(key, rows, cell.rowStart, cell.rowStart + cell.rowCount));
   return {
