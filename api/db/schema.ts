@@ -126,8 +126,8 @@ export type Role = (typeof ROLES)[number];
 
 /**
  * People who sign in. The operator runs the service and belongs to no tenant; tenant admins and
- * editors belong to exactly one. password_hash is "pbkdf2-sha256$<iterations>$<salt>$<hash>"
- * (api/auth/password-hash.ts). Emails are stored lower-cased.
+ * editors belong to exactly one. password_hash is "scrypt$<log2 N>$<r>$<p>$<salt>$<hash>", or
+ * "pbkdf2-sha256$<iterations>$<salt>$<hash>" until its user next signs in (api/auth/password-hash.ts). Emails are stored lower-cased.
  */
 export const users = sqliteTable(
   'users',

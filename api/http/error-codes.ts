@@ -53,7 +53,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   version_retired: 'The version was retired and its matrix collected; build it again before publishing (409).',
   build_not_queued: 'The build message could not be put on the queue; nothing changed, try again (503).',
   invalid_tenant: 'The tenant slug in the path is malformed (400).',
-  password_hashing_unavailable: 'The runtime refuses PBKDF2 at the iterations passwords use (hosted Workers have capped it); nothing was changed (503).',
+  password_hashing_unavailable: 'The runtime cannot hash passwords at the cost they use (out of memory, or a refused primitive); nothing was changed (503).',
   password_wrong: 'The current password given to change it is not the current password (403).',
   invalid_format: 'The format asked for is not json or csv (400).',
   tariff_missing: 'The tenant has no tariff for the month of the statement; the operator sets one (409).',

@@ -13,7 +13,7 @@ export interface TestSession {
   csrfToken: string;
 }
 
-/** A user written straight into D1 with a real 600,000-iteration hash (about 0.2 s each). */
+/** A user written straight into D1 with a real hash at today's scrypt cost (about 0.4 s each here). */
 export async function createTestUser(tenantId: string | null, role: 'operator' | 'tenant_admin' | 'tenant_editor'): Promise<TestUser> {
   const id = crypto.randomUUID();
   const email = `${role.replace('_', '-')}-${id.slice(0, 8)}@example.test`;
