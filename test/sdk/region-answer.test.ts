@@ -15,7 +15,7 @@ let built: BuildResult;
 let key: PirKeyPair;
 beforeAll(async () => {
   const next = seededRandom(42);
-  const sites = Array.from({ length: 400 }, (_, i) => ({ id: `post-${i}`, lat: 51 + 2 * next(), lon: 3 + 2 * next() }));
+  const sites = Array.from({ length: 400 }, (_, i) => ({ id: `post-${i}`, name: null, lat: 51 + 2 * next(), lon: 3 + 2 * next(), details: {} }));
   built = await buildVersion({ sites, detailColumns: [] }, { dataset: 'lantern-coast', version: 1 });
   key = await generateKeyPair({ modulusBits: 2048 });
 });
