@@ -3,12 +3,12 @@ import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { hashPassword, verifyPassword } from '../../api/auth/password-hash.ts';
 import { CREDENTIALS_FILE, type DevCredentials } from '../../sdk/cli/dev-home.ts';
+import { sqlText } from '../../sdk/cli/wrangler-d1.ts';
 import { localSql } from './wrangler.ts';
 
 export const DEMO_TENANT = 'demo';
 export const DEMO_DATASET = 'harrow-vale-care';
 
-const sqlText = (s: string) => `'${s.replace(/'/g, "''")}'`;
 const secret = (prefix: string) => prefix + randomBytes(32).toString('base64url');
 const sha256 = (s: string) => createHash('sha256').update(s).digest('hex');
 

@@ -1,5 +1,6 @@
 import { spawn, spawnSync, type ChildProcess } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
+import { d1Execute } from '../../sdk/cli/wrangler-d1.ts';
 
 export const PROJECT_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 const WRANGLER = fileURLToPath(new URL('../../node_modules/wrangler/bin/wrangler.js', import.meta.url));
@@ -34,9 +35,7 @@ export function startWranglerDev(args: string[], extraEnv: Record<string, string
 
 /** Runs SQL against the local D1 database and returns the rows of the last statement. */
 export function localSql(persistTo: string, sql: string): Array<Record<string, unknown>> {
-  const out = wrangler(['d1', 'execute', 'DB', '--local', '--persist-to', persistTo, '--json', '--command', sql]);
-  const parsed = JSON.parse(out.slice(out.indexOf('['))) as Array<{ results: Array<Record<string, unknown>> }>;
-  return parsed.at(-1)?.results ?? [];
+  return d1Execute({ where: 'local', persistTo, database: 'DB' }, sql);
 }
 
 /** Ends wrangler dev and its children: SIGTERM to the group, SIGKILL if it is still there after 3 s. */

@@ -2,6 +2,7 @@ import { InputError, type InputIssue } from '../../core/errors/input-error.ts';
 import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
+import { OPERATOR_HELP, operatorCommand } from './commands/operator.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
 import { QUERY_HELP, queryCommand } from './commands/query.ts';
 import { USAGE_HELP, usageCommand } from './commands/usage.ts';
@@ -20,6 +21,8 @@ ${VERSIONS_HELP}
 
 ${USAGE_HELP}
 
+${OPERATOR_HELP}
+
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
 
 const commands: Record<string, (args: string[], print: (line: string) => void) => Promise<void>> = {
@@ -30,6 +33,7 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   publish: publishCommand,
   rollback: rollbackCommand,
   usage: usageCommand,
+  operator: operatorCommand,
 };
 
 /** Runs one command; returns the exit code (0 ok, 1 refused by the server, 2 a usage mistake). */
