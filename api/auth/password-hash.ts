@@ -45,12 +45,12 @@ const PBKDF2 = 'pbkdf2-sha256';
 /**
  * scrypt through @noble/hashes (pure JS, audited; 128 * N * r bytes of memory). One hash at a time
  * per isolate, so concurrent sign-ins queue instead of each holding N * r * 128 bytes; the hash
- * yields to other requests every few milliseconds where timers run (locally; hosted Workers freeze
+ * yields to other requests every 50 ms where timers run (locally; hosted Workers freeze
  * timers during CPU work, so there it runs through).
  */
 export function scryptHash(password: Uint8Array, salt: Uint8Array, cost: ScryptCost, lengthBytes: number): Promise<Uint8Array> {
   checkScryptCost(cost);
-  const run = () => scryptAsync(password, salt, { N: 2 ** cost.logN, r: cost.r, p: cost.p, dkLen: lengthBytes, asyncTick: 20 });
+  const run = () => scryptAsync(password, salt, { N: 2 ** cost.logN, r: cost.r, p: cost.p, dkLen: lengthBytes, asyncTick: 50 });
   const result = queue.then(run, run);
   queue = result.then(
     () => undefined,
@@ -79,7 +79,7 @@ export async function pbkdf2Sha256(password: Uint8Array, salt: Uint8Array, itera
     return new Uint8Array(await crypto.subtle.deriveBits({ name: 'PBKDF2', hash: 'SHA-256', salt: salt as Uint8Array<ArrayBuffer>, iterations }, key, lengthBytes * 8));
   } catch (err) {
     if (!(err instanceof Error && err.name === 'NotSupportedError' && iterations > WEBCRYPTO_PBKDF2_CAP)) throw err;
-    return pbkdf2Async(sha256, password, salt, { c: iterations, dkLen: lengthBytes, asyncTick: 20 });
+    return pbkdf2Async(sha256, password, salt, { c: iterations, dkLen: lengthBytes, asyncTick: 50 });
   }
 }
 
