@@ -1,4 +1,4 @@
-import { existsSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
+import { chmodSync, existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { CliError } from './cli-error.ts';
 
@@ -37,7 +37,21 @@ export function readDevCredentials(home = nearveilHome()): Partial<DevCredential
   }
 }
 
+/**
+ * Writes JSON that holds secrets (credentials, a private key) readable by its owner only: the
+ * file 0600 and its folder 0700, even where an older file or folder had a wider mode (writing
+ * over a file keeps its mode, so the new content goes to a fresh file renamed over it). A folder
+ * nearveil cannot chmod (not its owner) is left as it is; the file alone still keeps others out.
+ */
 export function writePrivateJson(path: string, value: unknown): void {
-  mkdirSync(dirname(path), { recursive: true, mode: 0o700 });
-  writeFileSync(path, JSON.stringify(value, null, 2) + '\n', { mode: 0o600 });
+  const dir = dirname(path);
+  mkdirSync(dir, { recursive: true, mode: 0o700 });
+  try {
+    chmodSync(dir, 0o700);
+  } catch {
+    // not our folder: the file's own mode below still applies
+  }
+  const fresh = `${path}.${process.pid}.tmp`;
+  writeFileSync(fresh, JSON.stringify(value, null, 2) + '\n', { mode: 0o600 });
+  renameSync(fresh, path);
 }
