@@ -3,7 +3,7 @@ export interface Env {
   readonly DB: D1Database;
   readonly BLOBS: R2Bucket;
   /** The Worker's service binding to its own AnswerPart entrypoint, for fanned-out answers. */
-  readonly PARTS?: { rowProducts(request: import('./query/answer-part.ts').PartRequest): Promise<import('./query/answer-part.ts').PartResult> };
+  readonly PARTS?: { rowProducts(request: import('./query/part-messages.ts').PartRequest): Promise<import('./query/part-messages.ts').PartResult> };
   /** Answers estimated above this many products are split over parts (default 2,000,000). */
   readonly FANOUT_PRODUCTS_PER_PART?: string;
   /** The build queue (producer side); api/builds/consume-builds.ts is its consumer. */
@@ -29,7 +29,7 @@ export interface RequestVars {
   tenantId: string;
   credentialId: string;
   /** Set by requireRole: who calls an admin route. */
-  principal: import('./auth/principal.ts').Principal;
+  principal: import('./auth/principal-kind.ts').Principal;
   /** Set by requireRole: the tenant acted on, or null for an operator acting across tenants. */
   tenantScope: string | null;
   /** API keys: the dataset slugs the key may read, or null for every dataset of its tenant. */

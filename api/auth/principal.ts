@@ -9,17 +9,8 @@ import { constantTimeEqualText } from './constant-time.ts';
 import { bearerCredential } from './require-credential.ts';
 import { CSRF_HEADER, csrfTokenFor, resolveSession, SESSION_COOKIE } from './sessions.ts';
 
-/** Who is calling an admin route: a signed-in user, or an admin token acting as its tenant's admin. */
-export interface Principal {
-  kind: 'user' | 'credential';
-  id: string;
-  role: Role;
-  /** null only for the operator, who belongs to no tenant. */
-  tenantId: string | null;
-  tenantSlug: string | null;
-  /** The user's email or the credential's label, for audit lines and messages. */
-  label: string;
-}
+export type { Principal } from './principal-kind.ts';
+import type { Principal } from './principal-kind.ts';
 
 /** operator > tenant_admin > tenant_editor: a higher role may do all a lower one may. */
 const RANK: Record<Role, number> = { tenant_editor: 1, tenant_admin: 2, operator: 3 };

@@ -4,24 +4,9 @@ import { partPlan } from '../../core/pir/fan-out.ts';
 import { unblindedIntoWire } from '../../core/pir/planned-answer.ts';
 import { answerBody, decodeQueryWire } from '../../core/pir/wire.ts';
 import type { Env } from '../env.ts';
+import type { PartRequest, PartResult } from './part-messages.ts';
 import { loadMatrix, matrixCache } from './version-cache.ts';
 import { acquireEngine } from './product-engine.ts';
-
-export interface PartRequest {
-  /** Storage key of the matrix (content-addressed, so a part can never mix versions). */
-  matrixKey: string;
-  from: number;
-  to: number;
-  /** The query's modulus and its values for columns [from, to), in the query wire format. */
-  query: Uint8Array;
-}
-
-export interface PartResult {
-  /** Unblinded row products over the part's columns, in the answer wire format. */
-  rows: Uint8Array;
-  products: number;
-}
-
 
 /**
  * One part of a fanned-out answer, reached only through the Worker's service binding to itself

@@ -4,7 +4,7 @@ import { combineParts, type AnswerPhases } from '../../core/pir/planned-answer.t
 import type { ProductEngine } from '../../core/pir/product-engine.ts';
 import { decodeAnswerWire, queryBodyOf, sliceWireNumbers, type WireNumbers } from '../../core/pir/wire.ts';
 import { ApiError } from '../http/api-error.ts';
-import type { PartRequest, PartResult } from './answer-part.ts';
+import type { PartRequest, PartResult } from './part-messages.ts';
 
 /** Runs one part; in the Worker, an RPC call through the service binding to itself. */
 export type PartRunner = (request: PartRequest) => Promise<PartResult>;

@@ -1,6 +1,6 @@
 import { bitLength } from '../bigint/bit-length.ts';
 import { legendre } from '../bigint/jacobi.ts';
-import type { PirKeyPair } from './keys.ts';
+import type { PirKeyPair } from './key-pair.ts';
 
 /**
  * Checks the key-pair invariants and returns the key pair. Throws RangeError naming the first

@@ -1,5 +1,5 @@
 import { assembleKeyPair } from './key-check.ts';
-import type { PirKeyPair } from './keys.ts';
+import type { PirKeyPair } from './key-pair.ts';
 import { ALLOWED_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
 
 /** The stored form of a key pair: lower-case hex strings without prefix, plus a format number. */

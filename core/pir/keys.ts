@@ -6,18 +6,8 @@ import { assembleKeyPair } from './key-check.ts';
 import { partnerPrime } from './low-ones-modulus.ts';
 import { ALLOWED_MODULUS_BITS, DEFAULT_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
 
-/**
- * The client's secret key. n = p * q with p != q odd primes of equal length; n has exactly
- * modulusBits bits; w is a quadratic non-residue modulo p and modulo q, so Jacobi(w, n) = +1.
- * Only n ever leaves the client.
- */
-export interface PirKeyPair {
-  n: bigint;
-  p: bigint;
-  q: bigint;
-  w: bigint;
-  modulusBits: number;
-}
+export type { PirKeyPair } from './key-pair.ts';
+import type { PirKeyPair } from './key-pair.ts';
 
 export interface GenerateKeyPairOptions {
   /** One of ALLOWED_MODULUS_BITS; DEFAULT_MODULUS_BITS when absent. */
