@@ -1,4 +1,3 @@
-import { BigInteger } from 'jsbn';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { createMontgomeryKernel } from '../../../core/montgomery/kernel.ts';
 import { valuesHaveJacobiOne } from '../../../core/pir/jacobi-batch.ts';
@@ -7,22 +6,11 @@ import { createBigIntEngine } from '../../../core/pir/product-engine.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
 import { loadKernelModuleNode } from '../../../scripts/montgomery/load-kernel-node.ts';
 import { seededRandom } from '../../../scripts/demo/seeded-random.ts';
+import { eulerSymbol, seededBytes } from './residuosity-reference.ts';
 
-// Outside reference for which values are bad: Euler's criterion in jsbn modulo the key's primes
-// (the Jacobi symbol modulo n is the product of the two Legendre symbols).
-const big = (x: bigint) => new BigInteger(x.toString(16), 16);
-const euler = (a: bigint, p: bigint) => {
-  const v = BigInt('0x' + big(a % p).modPow(big((p - 1n) / 2n), big(p)).toString(16));
-  return v === 1n ? 1 : v === 0n ? 0 : -1;
-};
-
-/** A seeded stand-in for the server's random source: deterministic subsets. */
-const seededBytes = (seed: number) => {
-  const next = seededRandom(seed);
-  return (bytes: Uint8Array) => {
-    for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(next() * 256);
-  };
-};
+// Which values are bad comes from Euler's criterion in jsbn (residuosity-reference.ts), and the
+// random subsets from a seeded source.
+const euler = eulerSymbol;
 
 let module: WebAssembly.Module;
 let key: PirKeyPair;

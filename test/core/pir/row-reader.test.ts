@@ -1,4 +1,3 @@
-import { BigInteger } from 'jsbn';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { readColumn } from '../../../core/matrix/bit-matrix.ts';
 import { answerQuery } from '../../../core/pir/answer.ts';
@@ -6,23 +5,12 @@ import { decodeRows, rowReader } from '../../../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../../../core/pir/keys.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
 import { decodeAnswerWire, encodeAnswer } from '../../../core/pir/wire.ts';
-import { seededRandom } from '../../../scripts/demo/seeded-random.ts';
+import { eulerSymbol, seededBytes } from './residuosity-reference.ts';
 import { randomMatrix } from './random-matrix.ts';
 
-// Residuosity of crafted rows comes from Euler's criterion computed by jsbn (common practice:
-// a^((p-1)/2) is 1 for a residue and p - 1 for a non-residue modulo an odd prime p).
-const big = (x: bigint) => new BigInteger(x.toString(16), 16);
-const euler = (a: bigint, p: bigint): 1 | -1 | 0 => {
-  const v = BigInt('0x' + big(a % p).modPow(big((p - 1n) / 2n), big(p)).toString(16));
-  return v === 1n ? 1 : v === 0n ? 0 : -1;
-};
-/** A seeded stand-in for the client's random source. */
-const seededBytes = (seed: number) => {
-  const next = seededRandom(seed);
-  return (bytes: Uint8Array) => {
-    for (let i = 0; i < bytes.length; i++) bytes[i] = Math.floor(next() * 256);
-  };
-};
+// Which values are bad comes from Euler's criterion in jsbn (residuosity-reference.ts), and the
+// random subsets from a seeded source.
+const euler = eulerSymbol;
 
 let key: PirKeyPair;
 let residueModPOnly: bigint; // symbols (+1, -1) modulo (p, q): Jacobi -1, decodes as a 0 modulo p
