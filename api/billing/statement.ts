@@ -1,5 +1,6 @@
 import type { UsageReport } from '../metering/usage-report.ts';
 import { formatMicros, lineAmount } from './money.ts';
+import { spreadsheetSafeField } from '../../core/csv-writing/csv-field.ts';
 
 export interface Tariff {
   fromMonth: string;
@@ -72,14 +73,11 @@ export function buildStatement(tenant: string, currency: string, tariff: Tariff,
 }
 
 /** One CSV field per RFC 4180: quoted when it holds a comma, quote or line break. */
-function field(value: string | number): string {
-  const text = String(value);
-  return /[",\r\n]/.test(text) ? `"${text.replace(/"/g, '""')}"` : text;
-}
 
 /**
  * The statement as CSV (RFC 4180, CRLF line ends): one row per line, then the total row, then
- * one row per day of usage so the lines can be recomputed in a spreadsheet.
+ * one row per day of usage so the lines can be recomputed in a spreadsheet. Text cells that a
+ * spreadsheet could run as a formula are neutralised (core/csv-writing/csv-field.ts).
  */
 export function statementCsv(s: Statement): string {
   const header = ['tenant', 'month', 'currency', 'item', 'quantity', 'unit', 'unit_price_micros', 'priced_per', 'amount_micros'];
@@ -89,5 +87,5 @@ export function statementCsv(s: Statement): string {
   rows.push([]);
   rows.push(['day', 'queries', 'rejected', 'bytes_in', 'bytes_out', 'multiplications']);
   for (const d of s.days) rows.push([d.day, d.queries, d.rejected, d.bytesIn, d.bytesOut, d.multiplications]);
-  return rows.map((r) => r.map(field).join(',')).join('\r\n') + '\r\n';
+  return rows.map((r) => r.map(spreadsheetSafeField).join(',')).join('\r\n') + '\r\n';
 }

@@ -14,6 +14,7 @@ import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
 import { checkBuildRequest } from '../../core/build/build-version.ts';
 import { siteColumnSteps } from '../../core/build/site-columns.ts';
+import { decodeUtf8File } from '../../core/text/utf8-file.ts';
 import { runStepsPaused } from '../../core/steps/steps.ts';
 import { isolatePause } from '../builds/isolate-pause.ts';
 import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
@@ -65,9 +66,10 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       throw new ApiError(415, 'content_type', `body: expected Content-Type text/csv, got "${type || 'none'}"`, 'content-type');
     }
     const bytes = new Uint8Array(await c.req.arrayBuffer());
+    // Text that is not UTF-8 is refused (naming line and byte), never decoded with replacements.
     // Read into columns as a build would (a large table fits the isolate); records over the
     // details size limit are refused now, naming their rows, not at build time.
-    const sites = await runStepsPaused(siteColumnSteps(new TextDecoder('utf-8', { fatal: false }).decode(bytes)), isolatePause());
+    const sites = await runStepsPaused(siteColumnSteps(decodeUtf8File(bytes)), isolatePause());
     const tableKey = blobKeys.table(await sha256Hex(bytes));
     await putBlob(c.env, tableKey, bytes);
     const number = await insertDraftVersion(db, dataset.id, sites.ids.length, tableKey, c.var.principal.label);

@@ -59,6 +59,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   tariff_missing: 'The tenant has no tariff for the month of the statement; the operator sets one (409).',
   site_table: 'The uploaded site table is malformed; details name rows and columns (400).',
   site_table_too_large: 'The site table has more rows than a build takes (413).',
+  encoding: 'The uploaded file is not valid UTF-8; the message names the line and byte offset of the first bad byte (400).',
   key_unknown: 'No API key with this id in the tenant (404).',
   key_scope: 'The API key may not read this dataset (403).',
   quota_exceeded: "The API key used its month's quota; wait Retry-After seconds (429).",

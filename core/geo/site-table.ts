@@ -2,6 +2,8 @@ import { z } from 'zod';
 import { InputError, type InputIssue } from '../errors/input-error.ts';
 import { csvRecords, type CsvProblem } from './csv.ts';
 import { runSteps, type Steps } from '../steps/steps.ts';
+import { refusedCharacter } from './cell-characters.ts';
+import { exceedsChars, MAX_CELL_CHARS, MAX_COLUMN_NAME_CHARS, MAX_COLUMNS, MAX_ID_CHARS, MAX_NAME_CHARS } from './table-limits.ts';
 
 /** One site of a table. `name` is null when the column is absent or the cell empty. */
 export interface Site {
@@ -28,6 +30,9 @@ export const MAX_LISTED_ISSUES = 50;
 const REQUIRED = ['id', 'lat', 'lon'] as const;
 const NUMBER_TEXT = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
+/** A cell quoted in a message: long ones cut, so one bad cell cannot make a huge error. */
+const shortened = (text: string) => (text.length > 40 ? `${text.slice(0, 40)}... (${text.length} characters)` : text);
+
 function coordinate(column: 'lat' | 'lon', limit: number) {
   return z.string().transform((raw, ctx) => {
     const text = raw.trim();
@@ -37,7 +42,7 @@ function coordinate(column: 'lat' | 'lon', limit: number) {
     }
     const value = NUMBER_TEXT.test(text) ? Number(text) : Number.NaN;
     if (!Number.isFinite(value)) {
-      ctx.issues.push({ code: 'custom', input: raw, message: `${column} must be a decimal number, got "${text}"` });
+      ctx.issues.push({ code: 'custom', input: raw, message: `${column} must be a decimal number, got "${shortened(text)}"` });
       return z.NEVER;
     }
     if (value < -limit || value > limit) {
@@ -78,7 +83,9 @@ function fail(issues: InputIssue[]): never {
 /**
  * Parses a site table from CSV text (RFC 4180, see csv.ts) with a header row. Required columns
  * `id`, `lat`, `lon` (header names matched exactly, ignoring case and surrounding spaces; no
- * other spellings); optional `name`; every other column is a detail kept as text. Rows are
+ * other spellings); optional `name`; every other column is a detail kept as text. Cells holding
+ * control or bidirectional characters (cell-characters.ts) or longer than the limits of
+ * table-limits.ts are refused with their row and column. Rows are
  * numbered as in a spreadsheet: the header is row 1, the first site row 2.
  *
  * Throws InputError `site_table` (400, field `file`) listing up to 50 issues, or
@@ -138,6 +145,14 @@ export function* siteTableSteps(csv: string, visit: (site: Site, row: number, de
 
 const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
 
+/** Why a cell's text is refused (a refused character, or longer than `limit` code points), or null. */
+function textProblem(text: string, kind: 'label' | 'detail', limit: number): string | null {
+  const refused = refusedCharacter(text, kind);
+  if (refused) return refused;
+  const length = exceedsChars(text, limit);
+  return length === null ? null : `is ${length} characters long; at most ${limit} are allowed`;
+}
+
 /**
  * Checks a site table already split into records (header first) and returns every issue, not
  * only the first 50: the console marks each invalid cell with it before saving. Rows are
@@ -169,10 +184,16 @@ export function inspectSiteRecords(records: string[][], problems: InputIssue[] =
 function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailColumns: string[]; check(cells: string[], row: number): Site | null } | null {
   const header = headerCells.map((h) => h.trim());
   const before = issues.length;
+  if (header.length > MAX_COLUMNS) {
+    issues.push({ row: 1, message: `expected at most ${MAX_COLUMNS} columns, got ${header.length}` });
+    return null;
+  }
   const position = new Map<string, number>();
   header.forEach((h, i) => {
     const key = h.toLowerCase();
-    if (h === '') issues.push({ row: 1, message: `header cell ${i + 1} is empty` });
+    const problem = textProblem(h, 'label', MAX_COLUMN_NAME_CHARS);
+    if (problem) issues.push({ row: 1, column: h, message: `header cell ${i + 1} ${problem}` });
+    else if (h === '') issues.push({ row: 1, message: `header cell ${i + 1} is empty` });
     else if (position.has(key)) issues.push({ row: 1, column: h, message: `column "${h}" appears twice` });
     else position.set(key, i);
   });
@@ -214,8 +235,16 @@ function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailCo
           const key = String(issue.path[0] ?? '');
           issues.push({ row, column: header[at(key) ?? -1] ?? key, message: issue.message });
         }
-        return null;
       }
+      const issuesBeforeText = issues.length;
+      const textIssue = (i: number, text: string, kind: 'label' | 'detail', limit: number, what: string) => {
+        const problem = textProblem(text, kind, limit);
+        if (problem) issues.push({ row, column: header[i]!, message: `${what} ${problem}` });
+      };
+      textIssue(idAt, id, 'label', MAX_ID_CHARS, 'id');
+      if (nameAt !== undefined) textIssue(nameAt, cells[nameAt]!.trim(), 'label', MAX_NAME_CHARS, 'name');
+      for (const i of detailAt) textIssue(i, cells[i]!, 'detail', MAX_CELL_CHARS, 'cell');
+      if (!parsed.success || issues.length > issuesBeforeText) return null;
       if (seen !== undefined) return null;
       const { lat, lon } = parsed.data;
       const nameText = nameAt === undefined ? '' : cells[nameAt]!.trim();

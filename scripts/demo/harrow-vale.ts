@@ -1,4 +1,5 @@
 import { seededRandom as prng } from './seeded-random.ts';
+import { csvField } from '../../core/csv-writing/csv-field.ts';
 
 /**
  * Demo data only: an invented region, "Harrow Vale", with invented towns and invented care
@@ -25,9 +26,6 @@ const KINDS = ['Community Clinic', 'Pharmacy', 'Night Shelter', 'Counselling Cen
 const HOURS = ['Mon-Fri 08:00-18:00', 'Daily 09:00-21:00', 'Open 24 hours', 'Mon-Sat 10:00-16:00'] as const;
 
 
-function csvField(value: string): string {
-  return /[",\r\n]/.test(value) ? `"${value.replace(/"/g, '""')}"` : value;
-}
 
 /** A CSV site table of `count` invented sites (id, name, lat, lon and three detail columns). */
 export function harrowValeCsv(count = 2000, seed = 20261201): string {

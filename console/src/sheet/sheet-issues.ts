@@ -1,3 +1,4 @@
+import { csvField, spreadsheetSafeField } from '../../../core/csv-writing/csv-field.ts';
 import { inspectSiteRecords } from '../../../core/geo/site-table.ts';
 
 /** One problem placed on the grid: model row (-1 for the header), column (-1 for the whole row). */
@@ -55,10 +56,22 @@ export function checkSheet(columns: readonly string[], rows: readonly (readonly 
   return { list, byCell, rows: rowSet, blankRows: rows.length - kept.length };
 }
 
-/** The sheet as CSV for upload (RFC 4180 quoting), without entirely empty rows. */
+/** The sheet as CSV for upload (RFC 4180 quoting, every cell exact), without entirely empty rows. */
 export function sheetCsv(columns: readonly string[], rows: readonly (readonly string[])[]): string {
-  const quote = (c: string) => (/[",\r\n]/.test(c) || /^\s|\s$/.test(c) ? `"${c.replace(/"/g, '""')}"` : c);
-  const lines = [columns.map(quote).join(',')];
-  for (const row of rows) if (!isBlankRow(row)) lines.push(row.map(quote).join(','));
+  return writeSheet(columns, rows, csvField);
+}
+
+/**
+ * The sheet as CSV for people to open in a spreadsheet: as sheetCsv, but a cell that could run as
+ * a formula gets a leading ' (core/csv-writing/csv-field.ts). Never uploaded: that would store the '.
+ */
+export function sheetExportCsv(columns: readonly string[], rows: readonly (readonly string[])[]): string {
+  return writeSheet(columns, rows, spreadsheetSafeField);
+}
+
+function writeSheet(columns: readonly string[], rows: readonly (readonly string[])[], field: (cell: string) => string): string {
+  const line = (cells: readonly string[]) => cells.map((c) => field(c)).join(',');
+  const lines = [line(columns)];
+  for (const row of rows) if (!isBlankRow(row)) lines.push(line(row));
   return lines.join('\r\n') + '\r\n';
 }

@@ -1,11 +1,12 @@
 import { ApiFailure } from '../api/client.ts';
 import { csvToSheet } from '../io/csv-sheet.ts';
+import { importedFileText } from '../io/file-text.ts';
 import { geoJsonToSheet, sheetToGeoJson } from '../io/geojson.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
 import { download, errorText, fmt, h, setStatus } from '../ui/dom.ts';
 import { GridView } from './grid-view.ts';
-import { checkSheet, sheetCsv, type SheetIssues } from './sheet-issues.ts';
+import { checkSheet, sheetCsv, sheetExportCsv, type SheetIssues } from './sheet-issues.ts';
 import { SheetModel } from './sheet-model.ts';
 
 /** Problems listed beside the grid; the count covers them all. */
@@ -233,7 +234,7 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     const file = fileInput.files?.[0];
     if (!file) return;
     try {
-      const text = await file.text();
+      const text = await importedFileText(file);
       const isJson = /\.(geo)?json$/i.test(file.name) || text.trimStart().startsWith('{');
       const tab = /\.tsv$/i.test(file.name);
       const sheet: { columns: string[]; rows: string[][]; problems?: string[] } = isJson ? geoJsonToSheet(text) : tab ? tsvSheet(text) : csvToSheet(text);
@@ -252,7 +253,7 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
   }
 
   function exportCsv(): void {
-    download(`${picker.select.value || 'sites'}.csv`, sheetCsv(model.columns, model.rows), 'text/csv');
+    download(`${picker.select.value || 'sites'}.csv`, sheetExportCsv(model.columns, model.rows), 'text/csv');
     say('Exported the table as CSV');
   }
 

@@ -1,7 +1,7 @@
-import { readFileSync, statSync } from 'node:fs';
 import { connectAdmin } from '../../admin.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
+import { readUtf8File } from '../read-utf8-file.ts';
 import { MAX_K } from '../../../core/geo/manifest.ts';
 import { connectionOptions, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 import { layoutOption } from './plan.ts';
@@ -33,13 +33,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to add a version to');
   const slug = SlugSchema.safeParse(dataset);
   if (!slug.success) throw new CliError(`--dataset: ${slug.error.issues[0]?.message}, got "${dataset}"`);
-  let csv: Buffer;
-  try {
-    if (!statSync(file).isFile()) throw new Error('not a file');
-    csv = readFileSync(file);
-  } catch (err) {
-    throw new CliError(`cannot read ${file}: ${err instanceof Error ? err.message : String(err)}`);
-  }
+  const csv = readUtf8File(file).bytes;
   const conn = resolveConnection(values);
   const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
@@ -49,7 +43,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   try {
     await admin.ensureDataset(dataset, values.name);
     progress.update(`uploading ${(csv.length / 2 ** 20).toFixed(1)} MiB`, 0);
-    uploaded = await admin.uploadSiteTable(dataset, new Uint8Array(csv));
+    uploaded = await admin.uploadSiteTable(dataset, csv);
     progress.update('queued', 0);
     built = await admin.build(dataset, uploaded.version, layoutOption(values.layout), maxK, {
       pollMs: 300,

@@ -1,4 +1,3 @@
-import { readFileSync } from 'node:fs';
 import { buildFromColumns, type BuildResult } from '../../../core/build/build-version.ts';
 import { readSiteColumns } from '../../../core/build/site-columns.ts';
 import { progressLine, type ProgressStream } from '../progress-line.ts';
@@ -7,6 +6,7 @@ import { LAYOUT_DISCLOSURE, LAYOUT_FLAG } from '../../../core/build/layout-discl
 import { COST_MODEL } from '../../../core/build/cost-model.ts';
 import { MAX_K, type PlanRecord } from '../../../core/geo/manifest.ts';
 import { CliError } from '../cli-error.ts';
+import { readUtf8File } from '../read-utf8-file.ts';
 import { integerFlag, parseCommand } from '../options.ts';
 
 export const PLAN_HELP = `nearveil plan FILE [--layout auto|grid|adaptive|veiled] [--max-k K] [--json]
@@ -31,12 +31,7 @@ export async function planCommand(args: string[], print: (line: string) => void,
   if (positionals.length !== 1) throw new CliError(`plan: expected one FILE, got ${positionals.length === 0 ? 'none' : positionals.join(' ')}`);
   const file = positionals[0]!;
   const maxK = integerFlag(values['max-k'], '--max-k', 1, MAX_K, 1);
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (err) {
-    throw new CliError(`cannot read ${file}: ${err instanceof Error ? err.message : String(err)}`);
-  }
+  const { text } = readUtf8File(file);
   // Every kind is weighed, so the cost of each disclosure shows side by side; progress on stderr.
   const progress = progressLine(progressStream, { plain: values.json });
   let built: BuildResult;
