@@ -1,3 +1,5 @@
+import { readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { InputError, type InputIssue } from '../../core/errors/input-error.ts';
 import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
@@ -36,11 +38,24 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   operator: operatorCommand,
 };
 
+const UNREACHABLE_HINT =
+  'nearveil: is the server running? Start a local one with `npm start` in the nearveil checkout (it listens on http://127.0.0.1:8787), or name yours with --endpoint URL.';
+
+/** The version in package.json, read where it sits beside sdk/ (the CLI runs from the checkout or the package). */
+function packageVersion(): string {
+  const path = fileURLToPath(new URL('../../package.json', import.meta.url));
+  return (JSON.parse(readFileSync(path, 'utf8')) as { version: string }).version;
+}
+
 /** Runs one command; returns the exit code (0 ok, 1 refused by the server, 2 a usage mistake). */
 export async function main(argv: string[], print = (line: string) => console.log(line), printError = (line: string) => console.error(line)): Promise<number> {
   const [name, ...rest] = argv;
   if (name === undefined || name === 'help' || name === '--help' || name === '-h') {
     print(HELP);
+    return 0;
+  }
+  if (name === '--version' || name === '-v' || name === 'version') {
+    print(`nearveil ${packageVersion()}`);
     return 0;
   }
   const command = commands[name];
@@ -58,6 +73,7 @@ export async function main(argv: string[], print = (line: string) => console.log
     }
     if (err instanceof NearveilError) {
       printError(`nearveil: ${err.message}${err.field ? ` (field: ${err.field})` : ''}${err.status ? ` [HTTP ${err.status} ${err.code}]` : ''}`);
+      if (err.code === 'unreachable') printError(UNREACHABLE_HINT);
       printIssues(err.details, printError);
       return 1;
     }

@@ -61,5 +61,5 @@ export async function importCommand(args: string[], print: (line: string) => voi
   print(`Uploaded ${uploaded.siteCount} sites as version ${uploaded.version} of ${dataset}.`);
   print(`Built: matrix ${built.matrix.rows} x ${built.matrix.columns} bits, content hash ${built.contentHash?.slice(0, 16)}...`);
   if (built.layoutReason) print(`Layout: ${built.layoutReason}.`);
-  print(published ? `Published: version ${published.activeVersion} is now active.` : `Not published yet: run again with --publish, or publish from the console.`);
+  print(published ? `Published: version ${published.activeVersion} is now active.` : `Not published yet: \`nearveil publish --dataset ${dataset} --version ${uploaded.version}\` makes it active (running import again would upload a second version).`);
 }

@@ -2,6 +2,7 @@ import { DEFAULT_KEY_LIFETIME } from '../../client-key.ts';
 import { connect, type NearestResult } from '../../client.ts';
 import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
 import { diskKeyStore } from '../key-store.ts';
+import { roundMilliseconds } from '../round-milliseconds.ts';
 import { MAX_K } from '../../../core/geo/manifest.ts';
 import { diskSealedCache } from '../sealed-store.ts';
 import { connectionOptions, degrees, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
@@ -66,9 +67,10 @@ function jsonView(r: NearestResult) {
       distanceMeters: round(distanceMeters, 1),
       ...(record ? { record } : {}),
     })),
-    cost: r.cost,
+    cost: roundMilliseconds(r.cost),
   };
 }
+
 
 function textView(r: NearestResult): string {
   const c = r.cost;
