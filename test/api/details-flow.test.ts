@@ -85,15 +85,12 @@ describe('the private details round through the Worker', () => {
     const read = () => env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS q, COALESCE(SUM(bytes_out), 0) AS b FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ q: number; b: number }>();
     const before = (await read())!;
     const res = await appRequest(tenant, 'GET', path);
+    // Read once, as the response arrives and with no wait: the download is metered before the file goes out.
+    const after = (await read())!;
     expect(res.status).toBe(200);
     expect(res.headers.get('etag')).toBe(`"${manifest.details!.sealedHash}"`);
     expect(res.headers.get('cache-control')).toMatch(/immutable/);
     expect((await res.arrayBuffer()).byteLength).toBe(manifest.details!.sealedBytes);
-    let after = before;
-    for (let i = 0; i < 50 && after.b < before.b + manifest.details!.sealedBytes; i++) {
-      await new Promise((r) => setTimeout(r, 20));
-      after = (await read())!;
-    }
     expect(after).toEqual({ q: before.q, b: before.b + manifest.details!.sealedBytes });
     const again = await worker(`${BASE}${path}`, { headers: { authorization: `Bearer ${tenant.apiKey}`, 'if-none-match': `"${manifest.details!.sealedHash}"` } });
     expect(again.status).toBe(304);
@@ -105,14 +102,23 @@ describe('the private details round through the Worker', () => {
     const manifest = await client().manifest('ri-details');
     const read = () => env.DB.prepare('SELECT SUM(queries) AS q, SUM(multiplications) AS m FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ q: number; m: number }>();
     const before = (await read())!;
-    await client().nearest('ri-details', { lat: 41.7, lon: -71.5 }, { details: true });
+    // The count is read once as each round's answer arrives, with no wait and before the SDK
+    // decodes it: both rounds are metered before their answers go out.
+    const counted: number[] = [];
+    const metered = connect({
+      endpoint: BASE,
+      apiKey: tenant.apiKey,
+      keyPair: key,
+      fetch: async (r) => {
+        const res = await worker(r);
+        if (new URL(r.url).pathname.endsWith('/query')) counted.push((await read())!.q);
+        return res;
+      },
+    });
+    await metered.nearest('ri-details', { lat: 41.7, lon: -71.5 }, { details: true });
+    expect(counted).toEqual([before.q + 1, before.q + 2]);
     const expected = { q: before.q + 2, m: before.m + manifest.matrix.plan.products + manifest.details!.matrix.plan.products };
-    let after = before;
-    for (let i = 0; i < 50 && after.q < expected.q; i++) {
-      await new Promise((r) => setTimeout(r, 20));
-      after = (await read())!;
-    }
-    expect(after).toEqual(expected);
+    expect((await read())!).toEqual(expected);
   });
 
   it('refuses a sealed file changed in storage, and never shows the version secret', async () => {

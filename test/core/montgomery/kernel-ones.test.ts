@@ -31,16 +31,20 @@ describe('multiplyOnes schedule and module agree', () => {
 for (const bits of [2048, 3072] as const) {
   const limbs = Math.ceil((bits + 2) / LIMB_BITS);
   describe(`Montgomery kernel, moduli with all-ones low limbs, ${bits} bits`, () => {
-    it('matches BigInt and jsbn for any count of ones limbs from 4 to L - 1 (fast-check)', () => {
+    it('matches BigInt and jsbn for any count of ones limbs from 4 to L - 1 (fast-check, seeded)', () => {
+      // The operands depend on n, so they are drawn inside the run through fc.gen(): the run's seed
+      // covers them too, and fast-check prints the seed and the counterexample on failure. They are
+      // not shrunk (shrinking twelve 2048-bit operands one kernel at a time ran for minutes).
       fc.assert(
         fc.property(
           fc.bigInt({ min: 0n, max: (1n << BigInt(bits)) - 1n }),
           fc.integer({ min: MIN_ONES_LIMBS, max: limbs - 1 }),
           fc.integer({ min: 0, max: LIMB_BITS - 1 }),
-          (top, m, extra) => {
+          fc.gen(),
+          (top, m, extra, g) => {
             const ones = Math.min(m * LIMB_BITS + extra, bits - 2);
             const n = withLowOnes(top, bits, ones);
-            const pairs = fc.sample(fc.tuple(operand(n), operand(n)), 6);
+            const pairs = Array.from({ length: 6 }, () => g(() => fc.noShrink(fc.tuple(operand(n), operand(n)))));
             const k = createMontgomeryKernel(module, n);
             expect(k.onesLimbs).toBe(Math.floor(ones / LIMB_BITS));
             const got = products(k, pairs);
@@ -50,7 +54,7 @@ for (const bits of [2048, 3072] as const) {
             });
           },
         ),
-        { numRuns: bits === 2048 ? 25 : 15 },
+        { numRuns: bits === 2048 ? 25 : 15, seed: 20261203 },
       );
     });
 

@@ -1,30 +1,22 @@
 import { BigInteger } from 'jsbn';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { jacobi } from '../../../core/bigint/jacobi.ts';
-import { createBitMatrix, getBit, readColumn, setBit, type BitMatrix } from '../../../core/matrix/bit-matrix.ts';
+import { createBitMatrix, getBit, readColumn, setBit } from '../../../core/matrix/bit-matrix.ts';
 import { answerMultiplications, answerQuery } from '../../../core/pir/answer.ts';
 import { decodeRows } from '../../../core/pir/decode.ts';
 import { generateKeyPair, type PirKeyPair } from '../../../core/pir/keys.ts';
 import { makeQuery } from '../../../core/pir/query.ts';
 import { validateQuery } from '../../../core/pir/validate.ts';
 import { answerByteLength, decodeAnswer, decodeQuery, encodeAnswer, encodeQuery, queryByteLength } from '../../../core/pir/wire.ts';
+import { randomMatrix } from './random-matrix.ts';
 
 // The reference for every decoded bit is the matrix itself (readColumn); residuosity of query
-// values is checked with Euler's criterion computed by jsbn.
+// values is checked with Euler's criterion computed by jsbn. Test matrices come from the seeded
+// randomMatrix (random-matrix.ts); each check names its seed in its failure message.
 let key: PirKeyPair;
 beforeAll(async () => {
   key = await generateKeyPair({ modulusBits: 2048 });
 });
-
-function randomMatrix(rows: number, columns: number, density: number): BitMatrix {
-  const m = createBitMatrix(rows, columns);
-  const coin = new Uint8Array(rows * columns);
-  globalThis.crypto.getRandomValues(coin);
-  for (let r = 0; r < rows; r++) {
-    for (let c = 0; c < columns; c++) if (coin[r * columns + c]! < density * 256) setBit(m, r, c, 1);
-  }
-  return m;
-}
 
 const big = (x: bigint) => new BigInteger(x.toString(16), 16);
 const euler = (a: bigint, p: bigint) => BigInt('0x' + big(a).modPow(big((p - 1n) / 2n), big(p)).toString(16));
@@ -50,17 +42,17 @@ describe('query', () => {
 });
 
 describe('query, answer, decode', () => {
-  const shapes: Array<[rows: number, columns: number, density: number]> = [
-    [1, 1, 0.5], [1, 1, 1], [1, 9, 0.5], [9, 1, 0.5], [7, 33, 0.5], [13, 31, 0], [5, 17, 1], [30, 50, 0.5], [3, 65, 0.2],
+  const shapes: Array<[rows: number, columns: number, density: number, seed: number]> = [
+    [1, 1, 0.5, 101], [1, 1, 1, 102], [1, 9, 0.5, 103], [9, 1, 0.5, 104], [7, 33, 0.5, 105], [13, 31, 0, 106], [5, 17, 1, 107], [30, 50, 0.5, 108], [3, 65, 0.2, 109],
   ];
-  it.each(shapes)('recovers every column of a %i x %i matrix (density %f)', (rows, columns, density) => {
-    const m = randomMatrix(rows, columns, density);
+  it.each(shapes)('recovers every column of a %i x %i matrix (density %f, matrix seed %i)', (rows, columns, density, seed) => {
+    const m = randomMatrix(rows, columns, density, seed);
     for (let c = 0; c < columns; c++) {
       const query = makeQuery(key, columns, c);
       validateQuery(key.n, query, columns);
       const answer = answerQuery(m, key.n, query);
       expect(answer).toHaveLength(rows);
-      expect(Array.from(decodeRows(key, answer))).toEqual(Array.from(readColumn(m, c)));
+      expect(Array.from(decodeRows(key, answer)), `column ${c}, matrix seed ${seed}`).toEqual(Array.from(readColumn(m, c)));
     }
   });
 
@@ -74,17 +66,17 @@ describe('query, answer, decode', () => {
   });
 
   it('decodes only the asked rows', () => {
-    const m = randomMatrix(20, 8, 0.5);
+    const m = randomMatrix(20, 8, 0.5, 201);
     const answer = answerQuery(m, key.n, makeQuery(key, 8, 3));
     const column = Array.from(readColumn(m, 3));
-    expect(Array.from(decodeRows(key, answer, 5, 12))).toEqual(column.slice(5, 12));
+    expect(Array.from(decodeRows(key, answer, 5, 12)), 'matrix seed 201').toEqual(column.slice(5, 12));
     expect(decodeRows(key, answer, 7, 7)).toHaveLength(0);
     expect(() => decodeRows(key, answer, 5, 21)).toThrow(/expected 0 <= from <= to <= 20, got from=5, to=21/);
     expect(() => decodeRows(key, answer, 6, 5)).toThrow(RangeError);
   });
 
   it('survives the wire format both ways', () => {
-    const m = randomMatrix(11, 23, 0.5);
+    const m = randomMatrix(11, 23, 0.5, 202);
     for (const c of [0, 7, 22]) {
       const body = encodeQuery(key.n, makeQuery(key, 23, c));
       expect(body.length).toBe(queryByteLength(2048, 23));
@@ -94,20 +86,20 @@ describe('query, answer, decode', () => {
       expect(answerBody.length).toBe(answerByteLength(2048, 11));
       const { modulusBytes, rows } = decodeAnswer(answerBody);
       expect(modulusBytes).toBe(256);
-      expect(Array.from(decodeRows(key, rows))).toEqual(Array.from(readColumn(m, c)));
+      expect(Array.from(decodeRows(key, rows)), `column ${c}, matrix seed 202`).toEqual(Array.from(readColumn(m, c)));
     }
   });
 });
 
 describe('blinding', () => {
   it('gives different answers to the same query that decode the same', () => {
-    const m = randomMatrix(12, 10, 0.5);
+    const m = randomMatrix(12, 10, 0.5, 203);
     const query = makeQuery(key, 10, 6);
     const a = answerQuery(m, key.n, query);
     const b = answerQuery(m, key.n, query);
     a.forEach((z, r) => expect(z, `row ${r}`).not.toBe(b[r]));
-    expect(Array.from(decodeRows(key, a))).toEqual(Array.from(decodeRows(key, b)));
-    expect(Array.from(decodeRows(key, a))).toEqual(Array.from(readColumn(m, 6)));
+    expect(Array.from(decodeRows(key, a)), 'matrix seed 203').toEqual(Array.from(decodeRows(key, b)));
+    expect(Array.from(decodeRows(key, a)), 'matrix seed 203').toEqual(Array.from(readColumn(m, 6)));
   });
 
   it('blinds even an all-zero row (no 1-bit to multiply)', () => {
@@ -121,10 +113,10 @@ describe('blinding', () => {
 
 describe('answer bookkeeping and checks', () => {
   it('counts one multiplication per 1-bit plus two per row', () => {
-    const m = randomMatrix(9, 40, 0.5);
+    const m = randomMatrix(9, 40, 0.5, 204);
     let ones = 0;
     for (let r = 0; r < 9; r++) for (let c = 0; c < 40; c++) ones += getBit(m, r, c);
-    expect(answerMultiplications(m)).toBe(ones + 18);
+    expect(answerMultiplications(m), 'matrix seed 204').toBe(ones + 18);
   });
 
   it('refuses a value count that does not match the matrix or an even modulus', () => {
@@ -134,7 +126,7 @@ describe('answer bookkeeping and checks', () => {
   });
 
   it('refuses a tampered answer row instead of decoding it', () => {
-    const m = randomMatrix(3, 3, 0.5);
+    const m = randomMatrix(3, 3, 0.5, 205);
     const answer = answerQuery(m, key.n, makeQuery(key, 3, 1));
     let bad = 2n;
     while (jacobi(bad, key.n) !== -1) bad++;
