@@ -190,6 +190,27 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
     owners = new Uint32Array(slots);
   };
 
+  /**
+   * Takes slots [first, first + count) out of the Montgomery domain, 1,024 at a time: a product
+   * with a plain 1 gives (x R)(1) / R = x, below 2n. `each(i, at)` reads result i at words[at..]
+   * (getMany as BigInts, getManyWire into wire bytes).
+   */
+  const leaveDomain = (first: number, count: number, each: (i: number, at: number) => void) => {
+    const chunk = 1024;
+    const one = Math.max(reserved, first + count);
+    grow(one + 1 + chunk);
+    writeValue(one, 1n);
+    const target = Uint32Array.from({ length: chunk }, (_, i) => one + 1 + i);
+    const ones = new Uint32Array(chunk).fill(one);
+    const source = new Uint32Array(chunk);
+    for (let start = 0; start < count; start += chunk) {
+      const size = Math.min(chunk, count - start);
+      for (let i = 0; i < size; i++) source[i] = first + start + i;
+      kernel.multiplyMany(target, source, ones, size);
+      for (let i = 0; i < size; i++) each(start + i, slotBase + (one + 1 + i) * padded);
+    }
+  };
+
   const kernel: MontgomeryKernel = {
     modulus: n,
     onesLimbs: scheduleEntries > 0 ? ones : 0,
@@ -231,25 +252,11 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
       if (!Number.isSafeInteger(first) || !Number.isSafeInteger(count) || first < 0 || count < 0 || first + count > slots) {
         throw new RangeError(`getMany: expected a slot range within [0, ${slots}), got ${first} + ${count}`);
       }
-      // A Montgomery product with a plain 1 leaves the Montgomery domain: (x R)(1) / R = x.
-      const chunk = 1024;
-      const one = Math.max(reserved, first + count);
-      grow(one + 1 + chunk);
-      writeValue(one, 1n);
       const out: bigint[] = [];
-      const target = Uint32Array.from({ length: chunk }, (_, i) => one + 1 + i);
-      const ones = new Uint32Array(chunk).fill(one);
-      const source = new Uint32Array(chunk);
-      for (let start = 0; start < count; start += chunk) {
-        const size = Math.min(chunk, count - start);
-        for (let i = 0; i < size; i++) source[i] = first + start + i;
-        kernel.multiplyMany(target, source, ones, size);
-        for (let i = 0; i < size; i++) {
-          const at = slotBase + (one + 1 + i) * padded;
-          const value = fromLimbs(words.subarray(at, at + limbs), limbBits);
-          out.push(value >= n ? value - n : value);
-        }
-      }
+      leaveDomain(first, count, (_, at) => {
+        const value = fromLimbs(words.subarray(at, at + limbs), limbBits);
+        out.push(value >= n ? value - n : value);
+      });
       return out;
     },
     getManyWire(first: number, count: number, out: WireNumbers, at: number) {
@@ -258,25 +265,11 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
       }
       if (!Number.isSafeInteger(at) || at < 0 || at + count > out.count) throw new RangeError(`getManyWire: expected room for ${count} numbers from ${at}, got ${out.count}`);
       if (out.width * 8 < bitLength) throw new RangeError(`getManyWire: expected numbers of at least ${Math.ceil(bitLength / 8)} bytes, got ${out.width}`);
-      // As getMany: a product with a plain 1 leaves the Montgomery domain, in chunks of 1,024.
-      const chunk = 1024;
-      const one = Math.max(reserved, first + count);
-      grow(one + 1 + chunk);
-      writeValue(one, 1n);
-      const target = Uint32Array.from({ length: chunk }, (_, i) => one + 1 + i);
-      const ones = new Uint32Array(chunk).fill(one);
-      const source = new Uint32Array(chunk);
-      for (let start = 0; start < count; start += chunk) {
-        const size = Math.min(chunk, count - start);
-        for (let i = 0; i < size; i++) source[i] = first + start + i;
-        kernel.multiplyMany(target, source, ones, size);
-        for (let i = 0; i < size; i++) {
-          const slotAt = slotBase + (one + 1 + i) * padded;
-          // Results lie below 2n: one subtraction of n at most, on the limbs.
-          if (!limbsBelow(words, slotAt, nLimbs, limbs)) subtractLimbs(words, slotAt, nLimbs, limbs, limbBits);
-          limbsToBytes(words, slotAt, limbs, limbBits, out.bytes, out.offset + (at + start + i) * out.width, out.width);
-        }
-      }
+      leaveDomain(first, count, (i, slotAt) => {
+        // Results lie below 2n: one subtraction of n at most, on the limbs.
+        if (!limbsBelow(words, slotAt, nLimbs, limbs)) subtractLimbs(words, slotAt, nLimbs, limbs, limbBits);
+        limbsToBytes(words, slotAt, limbs, limbBits, out.bytes, out.offset + (at + i) * out.width, out.width);
+      });
     },
     setManyWire(targets: ArrayLike<number>, numbers: WireNumbers, from: number) {
       const count = targets.length;
