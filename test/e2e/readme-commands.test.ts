@@ -72,13 +72,17 @@ describe('README commands', () => {
     }
   });
 
-  it('`nearveil import FILE --dataset pharmacies --publish` makes a new dataset answerable', () => {
-    const imported = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--publish']);
+  it('`nearveil import FILE --dataset pharmacies --max-k 3 --publish` makes a new dataset answerable, for the three nearest too', () => {
+    const imported = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--max-k', '3', '--publish']);
     expect(imported.code, imported.stderr).toBe(0);
     expect(imported.stdout).toMatch(/version 1 is now active/);
     const run = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.6', '--lon', '-111.5', '--json']);
     expect(run.code, run.stderr).toBe(0);
     expect(JSON.parse(run.stdout).version).toBe(1);
+    // The README's code sample asks this dataset for k = 3 at 45.62, -111.42.
+    const three = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.62', '--lon', '-111.42', '--k', '3', '--json']);
+    expect(three.code, three.stderr).toBe(0);
+    expect(JSON.parse(three.stdout).results).toHaveLength(3);
   });
 
   it('`nearveil versions`, `publish` and `rollback` switch the active version of the imported dataset', () => {
