@@ -191,6 +191,26 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
   };
 
   /**
+   * Puts plain values into `targets` (`place(i, at)` writes value i's limbs at words[at..]), then
+   * multiplies each by R^2 mod n in one batch: (x R^2) / R = x R, the Montgomery form, without a
+   * BigInt division per value (setMany from BigInts, setManyWire from wire bytes).
+   */
+  const enterDomain = (name: string, targets: ArrayLike<number>, place: (i: number, at: number) => void) => {
+    const count = targets.length;
+    const square = reserved;
+    grow(square + 1);
+    writeValue(square, rSquaredModN);
+    const out = new Uint32Array(count);
+    for (let i = 0; i < count; i++) {
+      const slot = targets[i]!;
+      checkSlotIndex(name, slot, square);
+      place(i, slotBase + slot * padded);
+      out[i] = slot;
+    }
+    kernel.multiplyMany(out, out, new Uint32Array(count).fill(square), count);
+  };
+
+  /**
    * Takes slots [first, first + count) out of the Montgomery domain, 1,024 at a time: a product
    * with a plain 1 gives (x R)(1) / R = x, below 2n. `each(i, at)` reads result i at words[at..]
    * (getMany as BigInts, getManyWire into wire bytes).
@@ -276,23 +296,13 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
       if (!Number.isSafeInteger(from) || from < 0 || from + count > numbers.count) {
         throw new RangeError(`setManyWire: expected ${count} numbers from ${from}, got ${numbers.count}`);
       }
-      // Plain limbs straight from the bytes, then one batched product by R^2 (as setMany).
-      const square = reserved;
-      grow(square + 1);
-      writeValue(square, rSquaredModN);
-      const out = new Uint32Array(count);
-      for (let i = 0; i < count; i++) {
-        const slot = targets[i]!;
-        checkSlotIndex('setManyWire', slot, square);
-        const at = slotBase + slot * padded;
+      enterDomain('setManyWire', targets, (i, at) => {
         if (!bytesToLimbs(numbers.bytes, numbers.offset + (from + i) * numbers.width, numbers.width, words, at, limbs, limbBits)) {
           throw new RangeError(`setManyWire: expected number ${from + i} to fit ${limbs} limbs`);
         }
         words.fill(0, at + limbs, at + padded);
         if (!limbsBelow(words, at, nLimbs, limbs)) throw new RangeError(`setManyWire: expected number ${from + i} in [0, n), got a value >= n`);
-        out[i] = slot;
-      }
-      kernel.multiplyMany(out, out, new Uint32Array(count).fill(square), count);
+      });
     },
     set(slot: number, x: bigint) {
       checkSlotIndex('set', slot, slots);
@@ -302,23 +312,13 @@ export function createMontgomeryKernel(source: WebAssembly.Module | KernelInstan
     },
     setMany(targets: ArrayLike<number>, values: readonly bigint[]) {
       if (targets.length !== values.length) throw new RangeError(`setMany: expected as many values as slots, got ${values.length} and ${targets.length}`);
-      // Plain limbs first, then one batched product by R^2 mod n each: (x R^2) / R = x R, the
-      // Montgomery form, without a BigInt division per value.
-      const count = targets.length;
-      const square = reserved;
-      grow(square + 1);
-      writeValue(square, rSquaredModN);
-      const out = new Uint32Array(count);
-      for (let i = 0; i < count; i++) {
-        const slot = targets[i]!;
+      enterDomain('setMany', targets, (i, at) => {
         const x = values[i]!;
-        checkSlotIndex('setMany', slot, square);
         if (typeof x !== 'bigint') throw new TypeError(`setMany: expected bigint value, got ${typeof x}`);
         if (x < 0n || x >= n) throw new RangeError(`setMany: expected value in [0, n), got ${x < 0n ? 'a negative value' : 'a value >= n'}`);
-        writeValue(slot, x);
-        out[i] = slot;
-      }
-      kernel.multiplyMany(out, out, new Uint32Array(count).fill(square), count);
+        words.set(toLimbs(x, limbs, limbBits), at);
+        words.fill(0, at + limbs, at + padded);
+      });
     },
     get(slot: number) {
       checkSlotIndex('get', slot, slots);

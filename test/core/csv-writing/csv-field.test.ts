@@ -1,18 +1,10 @@
 import { describe, expect, it } from 'vitest';
+import { seededRandom } from '../../../scripts/demo/seeded-random.ts';
 import { readCsv } from '../../../core/geo/csv.ts';
 import { csvField, FORMULA_STARTS, mayRunAsFormula, neutraliseFormula, spreadsheetSafeField } from '../../../core/csv-writing/csv-field.ts';
 
 // A seeded generator (mulberry32), so a failing case can be replayed.
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 2 ** 32;
-  };
-}
+const seeded = seededRandom;
 
 describe('the formula rule (OWASP "CSV Injection", from memory)', () => {
   it('names exactly the six characters OWASP lists: = + - @ tab, carriage return', () => {

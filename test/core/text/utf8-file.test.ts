@@ -1,5 +1,6 @@
 import { Buffer } from 'node:buffer';
 import { describe, expect, it } from 'vitest';
+import { seededRandom } from '../../../scripts/demo/seeded-random.ts';
 import { InputError } from '../../../core/errors/input-error.ts';
 import { decodeUtf8File, firstInvalidUtf8Byte } from '../../../core/text/utf8-file.ts';
 
@@ -17,16 +18,7 @@ function refusal(input: Uint8Array): InputError {
 }
 
 // A seeded generator (mulberry32), so a failing case can be replayed.
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 2 ** 32;
-  };
-}
+const seeded = seededRandom;
 
 describe('decodeUtf8File accepts well-formed UTF-8 (RFC 3629 section 7 examples, from memory)', () => {
   it('decodes the RFC examples, dropping a leading byte-order mark', () => {
