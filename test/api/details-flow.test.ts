@@ -2,6 +2,7 @@ import { env } from 'cloudflare:test';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { countAtEachAnswer } from './count-at-each-answer.ts';
 import { parseSiteTable, type SiteTable } from '../../core/geo/site-table.ts';
 import { MAX_RECORD_BYTES } from '../../core/details/record-codec.ts';
 import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
@@ -102,19 +103,9 @@ describe('the private details round through the Worker', () => {
     const manifest = await client().manifest('ri-details');
     const read = () => env.DB.prepare('SELECT SUM(queries) AS q, SUM(multiplications) AS m FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ q: number; m: number }>();
     const before = (await read())!;
-    // The count is read once as each round's answer arrives, with no wait and before the SDK
-    // decodes it: both rounds are metered before their answers go out.
-    const counted: number[] = [];
-    const metered = connect({
-      endpoint: BASE,
-      apiKey: tenant.apiKey,
-      keyPair: key,
-      fetch: async (r) => {
-        const res = await worker(r);
-        if (new URL(r.url).pathname.endsWith('/query')) counted.push((await read())!.q);
-        return res;
-      },
-    });
+    // Both rounds are metered before their answers go out (count-at-each-answer.ts).
+    const { fetch, counted } = countAtEachAnswer(async () => (await read())!.q);
+    const metered = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair: key, fetch });
     await metered.nearest('ri-details', { lat: 41.7, lon: -71.5 }, { details: true });
     expect(counted).toEqual([before.q + 1, before.q + 2]);
     const expected = { q: before.q + 2, m: before.m + manifest.matrix.plan.products + manifest.details!.matrix.plan.products };

@@ -1,5 +1,6 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { countAtEachAnswer } from './count-at-each-answer.ts';
 import { geokdbushNearest } from '../geokdbush-nearest.ts';
 import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
 import { connect } from '../../sdk/client.ts';
@@ -56,19 +57,9 @@ describe('upload, build, publish, then a private query through the SDK', () => {
   it('meters answered queries per key, dataset, version and day', async () => {
     const queries = async () => (await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM usage_daily WHERE credential_id = ?').bind(tenant.apiKeyId).first<{ n: number }>())!.n;
     const before = await queries();
-    // The count is read once as each answer arrives, with no wait and before the SDK decodes it:
-    // metering is awaited before the answer goes out, so the answer just received is counted.
-    const counted: number[] = [];
-    const client = connect({
-      endpoint: BASE,
-      apiKey: tenant.apiKey,
-      keyPair: key,
-      fetch: async (r) => {
-        const res = await worker(r);
-        if (new URL(r.url).pathname.endsWith('/query')) counted.push(await queries());
-        return res;
-      },
-    });
+    // Each answer is counted before it goes out (count-at-each-answer.ts).
+    const { fetch, counted } = countAtEachAnswer(queries);
+    const client = connect({ endpoint: BASE, apiKey: tenant.apiKey, keyPair: key, fetch });
     await client.nearest('ri-zips', { lat: 41.7, lon: -71.5 });
     await client.nearest('ri-zips', { lat: 41.6, lon: -71.4 });
     expect(counted).toEqual([before + 1, before + 2]);

@@ -1,5 +1,6 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
+import { countAtEachAnswer } from './count-at-each-answer.ts';
 import { geokdbushNearest } from '../geokdbush-nearest.ts';
 import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
 import { generateKeyPair, type PirKeyPair } from '../../core/pir/keys.ts';
@@ -64,19 +65,9 @@ describe('veiled layout end to end: build, publish, two private rounds through t
 
   it('meters both rounds: two answered queries, with the products both plans promise', async () => {
     const before = await usageOf(t.apiKeyId);
-    // The count is read once as each round's answer arrives, with no wait and before the SDK
-    // decodes it: metering is awaited before each answer goes out.
-    const counted: number[] = [];
-    const client = connect({
-      endpoint: BASE,
-      apiKey: t.apiKey,
-      keyPair: key,
-      fetch: async (r) => {
-        const res = await worker(r);
-        if (new URL(r.url).pathname.endsWith('/query')) counted.push((await usageOf(t.apiKeyId)).q);
-        return res;
-      },
-    });
+    // Each round is counted before its answer goes out (count-at-each-answer.ts).
+    const { fetch, counted } = countAtEachAnswer(async () => (await usageOf(t.apiKeyId)).q);
+    const client = connect({ endpoint: BASE, apiKey: t.apiKey, keyPair: key, fetch });
     const answer = await client.nearest('ri-shelters', { lat: 41.7, lon: -71.5 });
     expect(counted).toEqual([before.q + 1, before.q + 2]);
     const after = await usageOf(t.apiKeyId);

@@ -1,14 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { main } from '../../sdk/cli/main.ts';
+import { runCli } from './run-cli.ts';
 import { degrees, integerFlag, parseCommand } from '../../sdk/cli/options.ts';
 
-/** Runs the CLI in-process and collects what it prints. */
-async function run(argv: string[]) {
-  const out: string[] = [];
-  const err: string[] = [];
-  const code = await main(argv, (l) => out.push(l), (l) => err.push(l));
-  return { code, out: out.join('\n'), err: err.join('\n') };
-}
+const run = runCli;
 
 describe('nearveil command line', () => {
   it('reads a negative number after a flag as its value (western longitudes)', () => {

@@ -1,14 +1,9 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { main } from '../../sdk/cli/main.ts';
+import { runCli } from './run-cli.ts';
 import { roundMilliseconds } from '../../sdk/cli/round-milliseconds.ts';
 
-async function run(argv: string[]) {
-  const out: string[] = [];
-  const err: string[] = [];
-  const code = await main(argv, (l) => out.push(l), (l) => err.push(l));
-  return { code, out: out.join('\n'), err: err.join('\n') };
-}
+const run = runCli;
 
 describe('CLI messages a newcomer meets first', () => {
   it('prints its version for --version, as package.json states it', async () => {

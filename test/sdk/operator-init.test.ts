@@ -3,24 +3,12 @@ import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { runCli } from './run-cli.ts';
 import { verifyPassword } from '../../api/auth/password-hash.ts';
-import { main } from '../../sdk/cli/main.ts';
 import { d1Execute, type D1Target } from '../../sdk/cli/wrangler-d1.ts';
 import { ROOT } from '../product-server.ts';
 
-/** Runs the CLI in-process with `env` set for the call, and collects what it prints. */
-async function run(argv: string[], env: Record<string, string | undefined> = {}) {
-  const saved = Object.fromEntries(Object.keys(env).map((k) => [k, process.env[k]]));
-  Object.entries(env).forEach(([k, v]) => (v === undefined ? delete process.env[k] : (process.env[k] = v)));
-  const out: string[] = [];
-  const err: string[] = [];
-  try {
-    const code = await main(argv, (l) => out.push(l), (l) => err.push(l));
-    return { code, out: out.join('\n'), err: err.join('\n') };
-  } finally {
-    Object.entries(saved).forEach(([k, v]) => (v === undefined ? delete process.env[k] : (process.env[k] = v)));
-  }
-}
+const run = runCli;
 
 // A fresh local D1 state with the migrations applied, as a new deployment has: no user at all.
 let state: string;
