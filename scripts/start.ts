@@ -90,7 +90,7 @@ async function start(): Promise<void> {
       `nearveil is running at ${endpoint} (GET /healthz answers 200).`,
       `Dev credentials (admin token, API key, and sign-ins for the operator, tenant admin and editor): ${credentialsPath}`,
       `Try, in a second terminal:`,
-      `  npx nearveil query --dataset ${DEMO_DATASET} --lat 45.62 --lon -111.42 --json`,
+      `  npx nearveil query --dataset ${DEMO_DATASET} --lat -75.93 --lon 60.52 --json`,
       `  npx nearveil import demo/my-sites.csv --dataset pharmacies --max-k 3 --publish`,
       'Press Ctrl-C to stop.',
       '',

@@ -3,23 +3,24 @@ import { csvField } from '../../core/csv-writing/csv-field.ts';
 
 /**
  * Demo data only: an invented region, "Harrow Vale", with invented towns and invented care
- * sites clustered around them. Coordinates are arbitrary points chosen for the demo; no real
- * place or service is described. Deterministic: the same seed gives the same file.
+ * sites clustered around them. It is put on the East Antarctic ice sheet (about 76 S, 60 E, some
+ * 500 km from the nearest research station and 900 km from the coast), where nobody lives, so no
+ * one can take it for a real place or service. Deterministic: the same seed gives the same file.
  */
 const TOWNS: ReadonlyArray<readonly [name: string, lat: number, lon: number, weight: number, spreadKm: number]> = [
-  ['Aldermoor', 45.62, -111.42, 22, 6],
-  ['Brackenfold', 45.48, -111.95, 14, 5],
-  ['Cindervale', 45.91, -111.18, 10, 4],
-  ['Dunmarrow', 45.27, -111.6, 9, 4],
-  ['Elsworth Crossing', 45.77, -112.35, 8, 3.5],
-  ['Fenwick Hollow', 45.12, -112.1, 6, 3],
-  ['Greyhallow', 46.05, -111.7, 6, 3],
-  ['Hollin Ford', 45.35, -110.95, 5, 3],
-  ['Ivybridge Reach', 45.58, -110.72, 5, 2.5],
-  ['Jessop Mill', 45.98, -112.55, 4, 2.5],
-  ['Kestrel Downs', 45.05, -111.3, 4, 2.5],
-  ['Lowmere', 45.7, -111.82, 4, 2],
-  ['Marrowgate', 45.43, -112.5, 3, 2],
+  ['Aldermoor', -75.93, 60.52, 22, 6],
+  ['Brackenfold', -76.07, 58.99, 14, 5],
+  ['Cindervale', -75.64, 61.22, 10, 4],
+  ['Dunmarrow', -76.28, 60.00, 9, 4],
+  ['Elsworth Crossing', -75.78, 57.83, 8, 3.5],
+  ['Fenwick Hollow', -76.43, 58.55, 6, 3],
+  ['Greyhallow', -75.50, 59.71, 6, 3],
+  ['Hollin Ford', -76.20, 61.88, 5, 3],
+  ['Ivybridge Reach', -75.97, 62.55, 5, 2.5],
+  ['Jessop Mill', -75.57, 57.25, 4, 2.5],
+  ['Kestrel Downs', -76.50, 60.87, 4, 2.5],
+  ['Lowmere', -75.85, 59.36, 4, 2],
+  ['Marrowgate', -76.12, 57.39, 3, 2],
 ];
 
 const KINDS = ['Community Clinic', 'Pharmacy', 'Night Shelter', 'Counselling Centre', 'Testing Point', 'Family Support Hub'] as const;
@@ -40,8 +41,9 @@ export function harrowValeCsv(count = 2000, seed = 20261201): string {
     const lat = lat0 + (gauss() * spreadKm) / 111.2;
     const lon = lon0 + (gauss() * spreadKm) / (111.2 * Math.cos((lat0 * Math.PI) / 180));
     const kind = KINDS[Math.floor(random() * KINDS.length)]!;
-    // 555-01xx numbers are set aside for fiction (common practice in North American examples).
-    const phone = `+1 406 555 01${String(Math.floor(random() * 100)).padStart(2, '0')}`;
+    // Country code 999 is not assigned to any country or area (ITU-T E.164 keeps it spare; from
+    // memory), so these numbers can reach no one.
+    const phone = `+999 4021 01${String(Math.floor(random() * 100)).padStart(2, '0')}`;
     const id = `HV-${String(i).padStart(4, '0')}`;
     const fields = [id, `${townName} ${kind} ${i}`, lat.toFixed(6), lon.toFixed(6), kind, phone, HOURS[i % HOURS.length]!];
     lines.push(fields.map(csvField).join(','));

@@ -7,9 +7,9 @@ export function fenwickSites(): Array<{ id: string; name: string; lat: number; l
   return Array.from({ length: 50 }, (_, i) => ({
     id: `FH-${String(i + 1).padStart(3, '0')}`,
     name: `Fenwick ${kinds[i % kinds.length]} ${i + 1}`,
-    lat: Number((45.1 + 0.5 * random()).toFixed(6)),
-    lon: Number((-112.2 + 0.7 * random()).toFixed(6)),
-    phone: `+1 406 555 0${String(100 + i)}`,
+    lat: Number((-76.45 + 0.5 * random()).toFixed(6)),
+    lon: Number((58.3 + 2 * random()).toFixed(6)),
+    phone: `+999 4021 0${String(100 + i)}`,
   }));
 }
 
