@@ -12,6 +12,8 @@ import { fetchRecords, memorySealedCache, type DetailsCost, type SealedFileCache
 import { NearveilError, send, serverTimingMs, type FetchLike } from './http.ts';
 import { keyKeeper, type KeyReadyCost } from './key-keeper.ts';
 import { fetchCellRecord, type PartitionRoundCost } from './partition-round.ts';
+import { cautionsFor, type Caution } from '../core/cautions/cautions.ts';
+import { isFarFromCoverage, manifestCoverage } from '../core/geo/coverage.ts';
 
 export interface ConnectOptions {
   /** Base URL of the nearveil API, for example http://127.0.0.1:8787 */
@@ -71,6 +73,14 @@ export interface NearestResult {
   dataset: string;
   version: number;
   results: NearestSite[];
+  /**
+   * True when the point lies more than 50 km outside the box around the sites (the manifest's
+   * grid, veiled or coverage box): the nearest listed site may be very far. False when the
+   * manifest tells no box (adaptive versions built before it carried one).
+   */
+  farFromCoverage: boolean;
+  /** What to show beside the results (DESIGN.md cautions; far_from_coverage first when it applies). */
+  cautions: Caution[];
   cost: QueryCost & { details?: DetailsCost };
 }
 
@@ -145,10 +155,13 @@ export function connect(options: ConnectOptions): NearveilClient {
       results[i]!.record = record;
       results[i]!.name = record.name;
     });
+    const farFromCoverage = isFarFromCoverage(manifestCoverage(m), point.lat, point.lon);
     return {
       dataset,
       version: m.version,
       results,
+      farFromCoverage,
+      cautions: cautionsFor(farFromCoverage),
       cost: {
         modulusBits,
         rows: m.matrix.rows,

@@ -7,3 +7,4 @@ export type { PartitionRoundCost } from './partition-round.ts';
 export { generateKeyPair, type GenerateKeyPairOptions, type PirKeyPair } from '../core/pir/keys.ts';
 export { DEFAULT_KEY_LIFETIME, memoryKeyStore, type ClientKeyStore, type KeyLifetime, type KeySetupCost, type StoredClientKey } from './client-key.ts';
 export type { KeyReadyCost } from './key-keeper.ts';
+export { CAUTIONS, FAR_FROM_COVERAGE_CAUTION, type Caution, type CautionCode } from '../core/cautions/cautions.ts';

@@ -1,3 +1,4 @@
+import { siteCoverage } from '../geo/coverage.ts';
 import { ManifestSchema, MAX_K, regionCount, type Layout, type Manifest, type PartitionMatrix } from '../geo/manifest.ts';
 import { dequantiseLat, dequantiseLon, quantiseLat, quantiseLon } from '../geo/quantise.ts';
 import { recordLayout } from '../geo/record.ts';
@@ -189,6 +190,7 @@ export async function buildFromColumns(sites: SiteColumns, meta: BuildMeta, opti
     siteIds: sites.ids,
     ...(details ? { details: details.manifest } : {}),
     ...(partitionRecord ? { partition: partitionRecord } : {}),
+    ...(choice.layout.kind === 'kd' ? { coverage: siteCoverage(sites.lats, sites.lons) } : {}),
   } satisfies Manifest);
   const total = choice.lists.reduce((sum, l) => sum + l.length, 0);
   await report('done', 100);

@@ -7,7 +7,7 @@ import type { Layout } from '../geo/manifest.ts';
  */
 export const LAYOUT_DISCLOSURE: Record<Layout['kind'], string> = {
   grid: "the grid box (the sites' bounding box plus a margin) and the longest list; not where sites are inside it",
-  kd: 'where sites are dense (the splits follow them), not where each one is',
+  kd: 'where sites are dense (the splits follow them) and the box around them to 0.1 degree, not where each one is',
   veiled:
     'a coarse grid over the whole-degree box around the sites, its shape set by the site count alone, and padded sizes and totals; ' +
     'the partitions inside the coarse cells stay in the partition matrix, fetched privately (a second round per query)',

@@ -59,6 +59,16 @@ export const VeiledLayoutSchema = z
   .refine((g) => 2 ** g.offsetBits >= g.regions, { error: 'layout: expected offsetBits to hold every region number' })
   .refine((g) => g.partitionBits >= g.offsetBits + 1, { error: 'layout: expected partitionBits to hold an offset and a leaf' });
 
+/** The box around an adaptive layout's sites (core/geo/coverage.ts), rounded outward to 0.1 degree. */
+export const CoverageSchema = z
+  .object({
+    latMin: z.number().min(-90).max(90),
+    latMax: z.number().min(-90).max(90),
+    lonMin: z.number().min(-180).lt(180),
+    lonMax: z.number().finite(),
+  })
+  .refine((b) => b.latMin <= b.latMax && b.lonMin <= b.lonMax && b.lonMax <= b.lonMin + 360, { error: 'coverage: expected latMin <= latMax and lonMin <= lonMax <= lonMin + 360' });
+
 export const LayoutSchema = z.union([GridLayoutSchema, KdLayoutSchema, VeiledLayoutSchema]);
 export type Layout = z.infer<typeof LayoutSchema>;
 
@@ -157,6 +167,8 @@ export const ManifestSchema = z
     /** Absent on versions built without details (before they existed, or by `nearveil plan`). */
     details: DetailsSchema.optional(),
     partition: PartitionMatrixSchema.optional(),
+    /** Adaptive layouts only (the others' boxes are in their layout); absent in older manifests. */
+    coverage: CoverageSchema.optional(),
   })
   .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
   .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to hold site index + 1' })
@@ -172,6 +184,7 @@ export const ManifestSchema = z
   .refine((m) => !m.details || m.details.sealedBytes === 12 + m.siteCount * m.details.sealedRecordBytes, {
     error: 'manifest: expected details.sealedBytes = 12 + siteCount * sealedRecordBytes',
   })
+  .refine((m) => m.coverage === undefined || m.layout.kind === 'kd', { error: 'manifest: expected coverage only on an adaptive (kd) layout' })
   .refine((m) => (m.layout.kind === 'veiled') === (m.partition !== undefined), {
     error: 'manifest: expected a partition matrix exactly when the layout is veiled',
   })

@@ -1,3 +1,4 @@
+import { CAUTIONS, FAR_FROM_COVERAGE_CAUTION } from '../../../core/cautions/cautions.ts';
 import { DEFAULT_KEY_LIFETIME } from '../../client-key.ts';
 import { connect, type NearestResult } from '../../client.ts';
 import { DEFAULT_MODULUS_BITS } from '../../../core/pir/params.ts';
@@ -19,7 +20,8 @@ export const QUERY_HELP = `nearveil query --dataset SLUG --lat DEG --lon DEG [--
   --key-days D, --key-queries Q   replace this machine's client key after D days or Q queries
                      (default ${DEFAULT_KEY_LIFETIME.days} and ${DEFAULT_KEY_LIFETIME.queries}): the server can link the queries of one key,
                      never their points; a new key is proven and registered once (about 1 s)
-  --endpoint URL, --api-key KEY   override the dev credentials`;
+  NEARVEIL_ENDPOINT, NEARVEIL_API_KEY   override the dev credentials
+  --endpoint URL, --api-key KEY         the same as flags (a key on a command line is visible to others: prefer the variable)`;
 
 export async function queryCommand(args: string[], print: (line: string) => void): Promise<void> {
   const { values } = parseCommand('query', args, {
@@ -42,7 +44,7 @@ export async function queryCommand(args: string[], print: (line: string) => void
     queries: integerFlag(values['key-queries'], '--key-queries', 1, 1_000_000, DEFAULT_KEY_LIFETIME.queries),
   };
   const conn = resolveConnection(values);
-  const apiKey = requireString(conn.apiKey, '--api-key', 'pass one, or run `npm start` once to write dev credentials');
+  const apiKey = requireString(conn.apiKey, '--api-key', 'set NEARVEIL_API_KEY to an API key, or run `npm start` once to write dev credentials');
   const client = connect({
     endpoint: conn.endpoint,
     apiKey,
@@ -67,6 +69,8 @@ function jsonView(r: NearestResult) {
       distanceMeters: round(distanceMeters, 1),
       ...(record ? { record } : {}),
     })),
+    farFromCoverage: r.farFromCoverage,
+    cautions: r.cautions,
     cost: roundMilliseconds(r.cost),
   };
 }
@@ -74,7 +78,8 @@ function jsonView(r: NearestResult) {
 
 function textView(r: NearestResult): string {
   const c = r.cost;
-  const lines = [r.results.length === 1 ? `Nearest site in ${r.dataset} (version ${r.version}):` : `${r.results.length} nearest sites in ${r.dataset} (version ${r.version}), nearest first:`];
+  const lines = r.farFromCoverage ? [`Warning: ${FAR_FROM_COVERAGE_CAUTION.text}`] : [];
+  lines.push(r.results.length === 1 ? `Nearest site in ${r.dataset} (version ${r.version}):` : `${r.results.length} nearest sites in ${r.dataset} (version ${r.version}), nearest first:`);
   for (const [i, s] of r.results.entries()) {
     lines.push(`  ${r.results.length === 1 ? '' : `${i + 1}. `}${s.id}${s.name ? ` ${s.name}` : ''}  at ${s.lat.toFixed(5)}, ${s.lon.toFixed(5)}  ${formatMeters(s.distanceMeters)} in a straight line`);
     if (s.record) {
@@ -94,7 +99,7 @@ function textView(r: NearestResult): string {
         ]
       : []),
     ...(c.keySetup ? [keySetupLine(c.keySetup)] : []),
-    'Straight-line distance, not travel time. Data can be out of date. In an emergency call your local emergency number.',
+    ...CAUTIONS.map((c) => `Caution: ${c.text}`),
   );
   return lines.join('\n');
 }
