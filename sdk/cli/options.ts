@@ -50,17 +50,30 @@ export interface Connection {
   home: string;
 }
 
-/** Flags win over the dev credentials file that `npm start` writes. */
-export function resolveConnection(values: { endpoint?: string; 'api-key'?: string; token?: string }): Connection {
+/**
+ * Flags win over the environment (NEARVEIL_ENDPOINT, NEARVEIL_API_KEY, NEARVEIL_TOKEN), which
+ * wins over the dev credentials file that `npm start` writes. A secret given as a flag works but
+ * is warned about: other users of the machine see command lines (`ps`) and shells keep them.
+ */
+export function resolveConnection(values: { endpoint?: string; 'api-key'?: string; token?: string }, warn: (line: string) => void = (line) => process.stderr.write(line + '\n')): Connection {
   const home = nearveilHome();
   const saved = readDevCredentials(home);
-  const endpoint = values.endpoint ?? saved.endpoint ?? DEFAULT_ENDPOINT;
+  for (const [flag, variable] of [['api-key', 'NEARVEIL_API_KEY'], ['token', 'NEARVEIL_TOKEN']] as const) {
+    if (values[flag] !== undefined) warn(`Warning: --${flag} puts a secret on the command line, where other users of this machine can see it (ps) and your shell keeps it; set ${variable} instead.`);
+  }
+  const fromEnv = (name: string) => (process.env[name]?.trim() ? process.env[name]!.trim() : undefined);
+  const endpoint = values.endpoint ?? fromEnv('NEARVEIL_ENDPOINT') ?? saved.endpoint ?? DEFAULT_ENDPOINT;
   try {
     new URL(endpoint);
   } catch {
     throw new CliError(`--endpoint: expected a URL such as ${DEFAULT_ENDPOINT}, got "${endpoint}"`);
   }
-  return { endpoint, apiKey: values['api-key'] ?? saved.apiKey, token: values.token ?? saved.adminToken, home };
+  return {
+    endpoint,
+    apiKey: values['api-key'] ?? fromEnv('NEARVEIL_API_KEY') ?? saved.apiKey,
+    token: values.token ?? fromEnv('NEARVEIL_TOKEN') ?? saved.adminToken,
+    home,
+  };
 }
 
 export function requireString(value: string | undefined, flag: string, hint: string): string {

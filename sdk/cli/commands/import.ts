@@ -15,7 +15,8 @@ export const IMPORT_HELP = `nearveil import FILE --dataset SLUG [--name NAME] [-
   --max-k K   build for up to the K nearest sites (1 to 8, default 1; veiled serves 1 only); lists grow with K
   Progress (upload, each build stage with its percent, elapsed time) goes to stderr: a bar on a
   terminal, plain lines otherwise or with --json.
-  --endpoint URL, --token TOKEN   override the dev credentials (TOKEN is the tenant admin token)`;
+  NEARVEIL_ENDPOINT, NEARVEIL_TOKEN   override the dev credentials (the token is the tenant admin's)
+  --endpoint URL, --token TOKEN       the same as flags (a token on a command line is visible to others: prefer the variable)`;
 
 export async function importCommand(args: string[], print: (line: string) => void, progressStream: ProgressStream = process.stderr): Promise<void> {
   const { values, positionals } = parseCommand('import', args, {
@@ -35,7 +36,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   if (!slug.success) throw new CliError(`--dataset: ${slug.error.issues[0]?.message}, got "${dataset}"`);
   const csv = readUtf8File(file).bytes;
   const conn = resolveConnection(values);
-  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
+  const token = requireString(conn.token, '--token', 'set NEARVEIL_TOKEN to the tenant admin token, or run `npm start` once to write dev credentials');
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
   const progress = progressLine(progressStream, { plain: values.json });
   let built: Awaited<ReturnType<typeof admin.build>>;

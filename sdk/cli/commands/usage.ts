@@ -11,7 +11,8 @@ export const USAGE_HELP = `nearveil usage [--dataset SLUG] [--month YYYY-MM] [--
   --email ADDRESS    sign in as this person (password from NEARVEIL_PASSWORD) instead of the admin token
   --json             print one object: month, the totals queries, rejected, bytesIn, bytesOut,
                      multiplications (also under "totals"), and days
-  --endpoint URL, --token TOKEN   override the dev credentials`;
+  NEARVEIL_ENDPOINT, NEARVEIL_TOKEN   override the dev credentials (the token is the tenant admin's)
+  --endpoint URL, --token TOKEN       the same as flags (a token on a command line is visible to others: prefer the variable)`;
 
 const MONTH = /^\d{4}-(0[1-9]|1[0-2])$/;
 
@@ -48,7 +49,7 @@ export async function usageCommand(args: string[], print: (line: string) => void
 type UsageQuery = Parameters<ReturnType<typeof connectAdmin>['usage']>[0];
 
 function usageByToken(conn: { endpoint: string; token?: string }, query: UsageQuery) {
-  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
+  const token = requireString(conn.token, '--token', 'set NEARVEIL_TOKEN to the tenant admin token, or run `npm start` once to write dev credentials');
   return connectAdmin({ endpoint: conn.endpoint, token }).usage(query);
 }
 

@@ -13,7 +13,8 @@ nearveil publish --dataset SLUG --version V [--json]
 
 nearveil rollback --dataset SLUG [--to V] [--json]
   Makes an earlier version active again: V, or by default the newest earlier published version.
-  --endpoint URL, --token TOKEN   override the dev credentials`;
+  NEARVEIL_ENDPOINT, NEARVEIL_TOKEN   override the dev credentials (the token is the tenant admin's)
+  --endpoint URL, --token TOKEN       the same as flags (a token on a command line is visible to others: prefer the variable)`;
 
 const versionOptions = { ...connectionOptions, dataset: { type: 'string' }, version: { type: 'string' }, to: { type: 'string' } } as const;
 
@@ -37,7 +38,7 @@ function versionNumber(value: string | undefined, flag: string): number {
 
 function admin(values: { endpoint?: string; token?: string; 'api-key'?: string }) {
   const conn = resolveConnection(values);
-  const token = requireString(conn.token, '--token', 'pass the tenant admin token, or run `npm start` once to write dev credentials');
+  const token = requireString(conn.token, '--token', 'set NEARVEIL_TOKEN to the tenant admin token, or run `npm start` once to write dev credentials');
   return connectAdmin({ endpoint: conn.endpoint, token });
 }
 
