@@ -3,6 +3,7 @@ import { InputError, type InputIssue } from '../errors/input-error.ts';
 import { csvRecords, type CsvProblem } from './csv.ts';
 import { runSteps, type Steps } from '../steps/steps.ts';
 import { refusedCharacter } from './cell-characters.ts';
+import { missingColumnMessage, separatorHint } from './header-hints.ts';
 import { exceedsChars, MAX_CELL_CHARS, MAX_COLUMN_NAME_CHARS, MAX_COLUMNS, MAX_ID_CHARS, MAX_NAME_CHARS } from './table-limits.ts';
 
 /** One site of a table. `name` is null when the column is absent or the cell empty. */
@@ -73,7 +74,7 @@ function fail(issues: InputIssue[]): never {
   throw new InputError(
     'site_table',
     'file',
-    `parseSiteTable: expected a valid site table, got ${issues.length} problem${issues.length === 1 ? '' : 's'}` +
+    `the site table has ${issues.length} problem${issues.length === 1 ? '' : 's'}` +
       ` (first: ${where ? `${where}: ` : ''}${first.message})` +
       (more > 0 ? `; ${listed.length} listed, ${more} more not listed` : ''),
     { details: listed },
@@ -125,7 +126,7 @@ export function* siteTableSteps(csv: string, visit: (site: Site, row: number, de
     for (const cells of records) {
       count++;
       if (count > MAX_SITES) {
-        throw new InputError('site_table_too_large', 'file', `parseSiteTable: expected at most ${MAX_SITES} site rows, got more`, { status: 413 });
+        throw new InputError('site_table_too_large', 'file', `the site table has more than ${MAX_SITES} site rows; at most ${MAX_SITES} are allowed (split it into several datasets)`, { status: 413 });
       }
       if (!isBlank(cells)) nonBlank = true;
       const site = checker.check(cells, count + 1);
@@ -144,6 +145,12 @@ export function* siteTableSteps(csv: string, visit: (site: Site, row: number, de
 }
 
 const isBlank = (r: string[]) => r.length === 1 && r[0]!.trim() === '';
+
+/** A latitude beyond +-90 beside a longitude within +-90: the two columns are likely swapped. */
+function looksSwapped(latText: string, lonText: string): boolean {
+  const [lat, lon] = [latText.trim(), lonText.trim()].map((t) => (NUMBER_TEXT.test(t) ? Number(t) : Number.NaN));
+  return Math.abs(lat!) > 90 && Math.abs(lat!) <= 180 && Math.abs(lon!) <= 90;
+}
 
 /** Why a cell's text is refused (a refused character, or longer than `limit` code points), or null. */
 function textProblem(text: string, kind: 'label' | 'detail', limit: number): string | null {
@@ -188,6 +195,11 @@ function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailCo
     issues.push({ row: 1, message: `expected at most ${MAX_COLUMNS} columns, got ${header.length}` });
     return null;
   }
+  const wrongSeparator = separatorHint(header);
+  if (wrongSeparator) {
+    issues.push({ row: 1, message: wrongSeparator });
+    return null;
+  }
   const position = new Map<string, number>();
   header.forEach((h, i) => {
     const key = h.toLowerCase();
@@ -198,13 +210,7 @@ function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailCo
     else position.set(key, i);
   });
   for (const name of REQUIRED) {
-    if (!position.has(name)) {
-      issues.push({
-        row: 1,
-        column: name,
-        message: `missing required column "${name}" (required: id, lat, lon; matched ignoring case, no other spellings)`,
-      });
-    }
+    if (!position.has(name)) issues.push({ row: 1, column: name, message: missingColumnMessage(name, header) });
   }
   if (issues.length > before) return null;
   const at = (key: string) => position.get(key);
@@ -231,9 +237,10 @@ function siteRowChecker(headerCells: string[], issues: InputIssue[]): { detailCo
         firstRowOfId.set(id, row);
       }
       if (!parsed.success) {
+        const swapped = looksSwapped(cells[latAt]!, cells[lonAt]!) ? ' (lat and lon may be swapped: this lon would be a valid lat)' : '';
         for (const issue of parsed.error.issues) {
           const key = String(issue.path[0] ?? '');
-          issues.push({ row, column: header[at(key) ?? -1] ?? key, message: issue.message });
+          issues.push({ row, column: header[at(key) ?? -1] ?? key, message: issue.message + (key === 'lat' ? swapped : '') });
         }
       }
       const issuesBeforeText = issues.length;

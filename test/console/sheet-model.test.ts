@@ -63,7 +63,7 @@ describe('tab-separated clipboard text', () => {
 describe('checkSheet marks every problem the server would refuse, on its cell', () => {
   it('finds out-of-range, missing and repeated values beyond the 50 the upload error lists', () => {
     const rows: string[][] = [];
-    for (let i = 0; i < 60; i++) rows.push([`s${i}`, '', '95', '10']);
+    for (let i = 0; i < 60; i++) rows.push([`s${i}`, '', '95', '100']);
     rows.push(['s1', '', '45', '10']); // repeats the id of row 3
     rows.push(['', '', '', '']); // an empty row: left out, not a problem
     rows.push(['t', '', '45', '']); // missing longitude

@@ -13,7 +13,7 @@ describe('CLI messages a newcomer meets first', () => {
 
   it('says how to start the server when none answers', async () => {
     // Port 9 (discard, RFC 863) on loopback: nothing listens there on these machines.
-    const r = await run(['usage', '--endpoint', 'http://127.0.0.1:9', '--token', 'nva_invented']);
+    const r = await run(['usage', '--endpoint', 'http://127.0.0.1:9'], { NEARVEIL_TOKEN: 'nva_invented' });
     expect(r.code).toBe(1);
     expect(r.err).toMatch(/cannot reach http:\/\/127\.0\.0\.1:9/);
     expect(r.err).toMatch(/is the server running\? Start a local one with `npm start`/);

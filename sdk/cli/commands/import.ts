@@ -1,3 +1,6 @@
+import { readSiteColumns } from '../../../core/build/site-columns.ts';
+import { coordinateWarnings } from '../../../core/geo/land-share.ts';
+import { worldLand } from '../world-land.ts';
 import { connectAdmin } from '../../admin.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
@@ -34,7 +37,11 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const dataset = requireString(values.dataset, '--dataset', 'the slug of the dataset to add a version to');
   const slug = SlugSchema.safeParse(dataset);
   if (!slug.success) throw new CliError(`--dataset: ${slug.error.issues[0]?.message}, got "${dataset}"`);
-  const csv = readUtf8File(file).bytes;
+  const { bytes: csv, text } = readUtf8File(file);
+  // Checked here first, with the server's own rules: a table with problems creates no dataset.
+  const columns = readSiteColumns(text);
+  const warnings = coordinateWarnings(worldLand(), columns.lats, columns.lons);
+  for (const w of warnings) progressStream.write(`Warning: ${w}\n`);
   const conn = resolveConnection(values);
   const token = requireString(conn.token, '--token', 'set NEARVEIL_TOKEN to the tenant admin token, or run `npm start` once to write dev credentials');
   const admin = connectAdmin({ endpoint: conn.endpoint, token });
@@ -56,7 +63,7 @@ export async function importCommand(args: string[], print: (line: string) => voi
   }
   const published = values.publish ? await admin.publish(dataset, uploaded.version) : null;
   if (values.json) {
-    print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, layout: built.layout, layoutReason: built.layoutReason, matrix: built.matrix }));
+    print(JSON.stringify({ dataset, version: uploaded.version, siteCount: uploaded.siteCount, state: published ? 'active' : built.state, layout: built.layout, layoutReason: built.layoutReason, matrix: built.matrix, warnings }));
     return;
   }
   print(`Uploaded ${uploaded.siteCount} sites as version ${uploaded.version} of ${dataset}.`);

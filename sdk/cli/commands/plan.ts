@@ -1,3 +1,5 @@
+import { coordinateWarnings } from '../../../core/geo/land-share.ts';
+import { worldLand } from '../world-land.ts';
 import { buildFromColumns, type BuildResult } from '../../../core/build/build-version.ts';
 import { readSiteColumns } from '../../../core/build/site-columns.ts';
 import { progressLine, type ProgressStream } from '../progress-line.ts';
@@ -35,17 +37,20 @@ export async function planCommand(args: string[], print: (line: string) => void,
   // Every kind is weighed, so the cost of each disclosure shows side by side; progress on stderr.
   const progress = progressLine(progressStream, { plain: values.json });
   let built: BuildResult;
+  let warnings: string[] = [];
   try {
     progress.update('reading', 0);
     const sites = readSiteColumns(text);
+    warnings = coordinateWarnings(worldLand(), sites.lats, sites.lons);
     built = await buildFromColumns(sites, { dataset: 'plan', version: 1, layout: layoutOption(values.layout), weighAll: true, maxK }, { onProgress: (p) => progress.update(p.stage, p.percent) });
   } finally {
     progress.done();
   }
+  for (const w of warnings) progressStream.write(`Warning: ${w}\n`);
   const m = built.manifest;
   const chosen = built.layoutsTried.find((g) => g.chosen)!;
   if (values.json) {
-    print(JSON.stringify({ siteCount: m.siteCount, maxK: m.maxK, listLengths: built.stats.listLengths, layout: m.layout, record: m.record, matrix: m.matrix, ...(m.partition ? { partition: m.partition } : {}), buildMs: built.stats.buildMs, layoutsTried: built.layoutsTried, costModel: COST_MODEL }));
+    print(JSON.stringify({ siteCount: m.siteCount, maxK: m.maxK, listLengths: built.stats.listLengths, layout: m.layout, record: m.record, matrix: m.matrix, ...(m.partition ? { partition: m.partition } : {}), buildMs: built.stats.buildMs, layoutsTried: built.layoutsTried, costModel: COST_MODEL, warnings }));
     return;
   }
   const kib = (b: number) => `${(b / 1024).toFixed(0)} KiB`;

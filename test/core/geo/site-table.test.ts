@@ -52,14 +52,14 @@ describe('parseSiteTable', () => {
     expect(e.field).toBe('file');
     expect(e.status).toBe(400);
     expect(e.details).toEqual([
-      { row: 2, column: 'LAT', message: 'lat must be between -90 and 90, got 123' },
+      { row: 2, column: 'LAT', message: 'lat must be between -90 and 90, got 123 (lat and lon may be swapped: this lon would be a valid lat)' },
       { row: 3, column: 'Id', message: 'id is empty' },
       { row: 4, column: 'lon', message: 'lon must be between -180 and 180, got 181' },
       { row: 5, column: 'LAT', message: 'lat is empty' },
       { row: 6, column: 'Id', message: 'id "A" repeats the id of row 2' },
       { row: 7, column: 'LAT', message: 'lat must be a decimal number, got "1e400"' },
     ]);
-    expect(e.message).toMatch(/^parseSiteTable: expected a valid site table, got 6 problems \(first: row 2, column LAT: /);
+    expect(e.message).toMatch(/^the site table has 6 problems \(first: row 2, column LAT: /);
   });
 
   it('refuses an empty file, a missing column, a short row and a header without rows', () => {
@@ -67,7 +67,11 @@ describe('parseSiteTable', () => {
     expect(failure('\uFEFF\r\n').details[0]?.message).toMatch(/got an empty file/);
     const missing = failure('id,latitude,lon\na,1,2');
     expect(missing.details).toEqual([
-      { row: 1, column: 'lat', message: 'missing required column "lat" (required: id, lat, lon; matched ignoring case, no other spellings)' },
+      {
+        row: 1,
+        column: 'lat',
+        message: 'missing required column "lat": rename column "latitude" to "lat" (columns found: "id", "latitude", "lon"; required: id, lat, lon, matched ignoring case; optional: name; other columns are details)',
+      },
     ]);
     expect(failure('id,lat,lon\na,1\nb,1,2,3').details).toEqual([
       { row: 2, message: 'expected 3 fields, got 2' },
@@ -77,12 +81,39 @@ describe('parseSiteTable', () => {
     expect(failure('id,lat,lon,Lat\na,1,2,3').details[0]).toMatchObject({ row: 1, column: 'Lat' });
   });
 
+  it('names the separator of a semicolon-, tab- or bar-separated file instead of listing missing columns', () => {
+    for (const [sep, words] of [[';', 'semicolons'], ['\t', 'tabs'], ['|', 'vertical bars']] as const) {
+      const e = failure(['id', 'name', 'lat', 'lon'].join(sep) + '\n' + ['a', 'A', '1', '2'].join(sep) + '\n');
+      expect(e.details).toHaveLength(1);
+      expect(e.details[0]!.message).toContain(`separated by ${words}`);
+      expect(e.details[0]!.message).toContain('comma-separated CSV (RFC 4180)');
+    }
+  });
+
+  it('suggests the rename for spreadsheet spellings of lat and lon (Latitude, Longitude, lng), and lists the columns found', () => {
+    const e = failure('Site,Latitude,lng\na,1,2\n');
+    expect(e.details.map((d) => d.message)).toEqual([
+      expect.stringMatching(/^missing required column "id" \(columns found: "Site", "Latitude", "lng"/),
+      expect.stringMatching(/^missing required column "lat": rename column "Latitude" to "lat"/),
+      expect.stringMatching(/^missing required column "lon": rename column "lng" to "lon"/),
+    ]);
+  });
+
+  it('says lat and lon may be swapped on a row whose lat is out of range while its lon would be a valid lat', () => {
+    // Source (from memory): Omaha is at about 41.26 N, 95.94 W; written swapped it reads lat -95.94.
+    const e = failure('id,lat,lon\nomaha,-95.94,41.26\nfar,-95.94,120\n');
+    expect(e.details).toEqual([
+      { row: 2, column: 'lat', message: 'lat must be between -90 and 90, got -95.94 (lat and lon may be swapped: this lon would be a valid lat)' },
+      { row: 3, column: 'lat', message: 'lat must be between -90 and 90, got -95.94' },
+    ]);
+  });
+
   it('lists 50 issues and counts the rest in the message', () => {
-    const rows = Array.from({ length: 70 }, (_, i) => `s${i},95,0`).join('\n');
+    const rows = Array.from({ length: 70 }, (_, i) => `s${i},95,100`).join('\n');
     const e = failure(`id,lat,lon\n${rows}`);
     expect(e.details).toHaveLength(50);
     expect(e.details[49]).toEqual({ row: 51, column: 'lat', message: 'lat must be between -90 and 90, got 95' });
-    expect(e.message).toMatch(/got 70 problems .*; 50 listed, 20 more not listed$/);
+    expect(e.message).toMatch(/has 70 problems .*; 50 listed, 20 more not listed$/);
   });
 
   it('refuses more than 200,000 rows with site_table_too_large (413)', () => {
