@@ -3,6 +3,7 @@ import { fileURLToPath } from 'node:url';
 import { InputError, type InputIssue } from '../../core/errors/input-error.ts';
 import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
+import { datasetHints } from './dataset-suggestion.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
 import { OPERATOR_HELP, operatorCommand } from './commands/operator.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
@@ -74,6 +75,10 @@ export async function main(argv: string[], print = (line: string) => console.log
     if (err instanceof NearveilError) {
       printError(`nearveil: ${err.message}${err.field ? ` (field: ${err.field})` : ''}${err.status ? ` [HTTP ${err.status} ${err.code}]` : ''}`);
       if (err.code === 'unreachable') printError(UNREACHABLE_HINT);
+      const asked = flagValue(rest, '--dataset');
+      if (err.code === 'dataset_unknown' && asked) {
+        for (const line of await datasetHints(asked, { endpoint: flagValue(rest, '--endpoint'), token: flagValue(rest, '--token') })) printError(line);
+      }
       printIssues(err.details, printError);
       return 1;
     }
@@ -84,6 +89,15 @@ export async function main(argv: string[], print = (line: string) => console.log
     }
     throw err;
   }
+}
+
+/** The value of `--flag VALUE` or `--flag=VALUE` in raw arguments, for messages after a failure. */
+function flagValue(args: readonly string[], flag: string): string | undefined {
+  for (let i = 0; i < args.length; i++) {
+    if (args[i] === flag) return args[i + 1];
+    if (args[i]!.startsWith(flag + '=')) return args[i]!.slice(flag.length + 1);
+  }
+  return undefined;
 }
 
 /** Lists the first problems of a larger input, spreadsheet row and column first. */

@@ -56,7 +56,7 @@ describe('README commands', () => {
     for (const s of sites) index.add(s.lon, s.lat);
     index.finish();
     // Points in town centres, between towns and outside the region.
-    for (const [i, [lat, lon]] of ([[45.62, -111.42], [45.3, -111.8], [46.3, -113.2], [44.7, -110.4]] as const).entries()) {
+    for (const [i, [lat, lon]] of ([[-75.93, 60.52], [-76.25, 59.42], [-75.25, 55.4], [-76.85, 63.47]] as const).entries()) {
       const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', String(lat), '--lon', String(lon), '--json']);
       expect(run.stderr + run.stdout).toMatch(/"results"/);
       const out = JSON.parse(run.stdout) as { results: Array<{ id: string; distanceMeters: number }>; cost: Record<string, number> & { keySetup?: Record<string, number> } };
@@ -76,11 +76,11 @@ describe('README commands', () => {
     const imported = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--max-k', '3', '--publish']);
     expect(imported.code, imported.stderr).toBe(0);
     expect(imported.stdout).toMatch(/version 1 is now active/);
-    const run = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.6', '--lon', '-111.5', '--json']);
+    const run = nearveil(['query', '--dataset', 'pharmacies', '--lat', '-75.95', '--lon', '60.29', '--json']);
     expect(run.code, run.stderr).toBe(0);
     expect(JSON.parse(run.stdout).version).toBe(1);
-    // The README's code sample asks this dataset for k = 3 at 45.62, -111.42.
-    const three = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.62', '--lon', '-111.42', '--k', '3', '--json']);
+    // The README's code sample asks this dataset for k = 3 at -75.93, 60.52.
+    const three = nearveil(['query', '--dataset', 'pharmacies', '--lat', '-75.93', '--lon', '60.52', '--k', '3', '--json']);
     expect(three.code, three.stderr).toBe(0);
     expect(JSON.parse(three.stdout).results).toHaveLength(3);
   });
@@ -103,7 +103,7 @@ describe('README commands', () => {
     const published = nearveil(['publish', '--dataset', 'pharmacies', '--version', '2', '--json']);
     expect(published.code, published.stderr).toBe(0);
     expect(JSON.parse(published.stdout)).toMatchObject({ activeVersion: 2, previousVersion: 1 });
-    const query = nearveil(['query', '--dataset', 'pharmacies', '--lat', '45.6', '--lon', '-111.5', '--json']);
+    const query = nearveil(['query', '--dataset', 'pharmacies', '--lat', '-75.95', '--lon', '60.29', '--json']);
     expect(JSON.parse(query.stdout).version).toBe(2);
   });
 
@@ -135,7 +135,7 @@ describe('README commands', () => {
 
   it('`nearveil query --details` prints the stored record of the nearest demo site, every column', () => {
     const table = parseSiteTable(harrowValeCsv());
-    const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.62', '--lon', '-111.42', '--details', '--json']);
+    const run = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '-75.93', '--lon', '60.52', '--details', '--json']);
     expect(run.code, run.stderr).toBe(0);
     const out = JSON.parse(run.stdout) as { results: Array<{ id: string; name: string; record: unknown }>; cost: { details: { queries: number; sealedBytes: number } } };
     const stored = table.sites.find((s) => s.id === out.results[0]!.id)!;
@@ -143,9 +143,9 @@ describe('README commands', () => {
     expect(out.results[0]!.name).toBe(stored.name);
     expect(out.cost.details.queries).toBe(1);
     // The sealed file is kept in the client's home: a second run downloads nothing.
-    const again = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '45.3', '--lon', '-111.8', '--details']);
+    const again = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '-76.25', '--lon', '59.42', '--details']);
     expect(again.code, again.stderr).toBe(0);
-    expect(again.stdout).toMatch(/phone: "\+1 406 555 01\d\d"/);
+    expect(again.stdout).toMatch(/phone: "\+999 4021 01\d\d"/);
     expect(again.stdout).toMatch(/sealed file kept from before/);
   });
 
@@ -159,5 +159,8 @@ describe('README commands', () => {
     const unknown = nearveil(['query', '--dataset', 'no-such-set', '--lat', '45', '--lon', '-111']);
     expect(unknown.code).toBe(1);
     expect(unknown.stderr).toMatch(/dataset "no-such-set" does not exist.*HTTP 404/);
+    expect(unknown.stderr).toMatch(/datasets of this tenant: .*harrow-vale-care/);
+    const typo = nearveil(['query', '--dataset', 'harrow-vale-car', '--lat', '-75.93', '--lon', '60.52']);
+    expect(typo.stderr).toMatch(/did you mean "harrow-vale-care"\?/);
   });
 });

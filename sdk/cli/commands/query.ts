@@ -1,3 +1,4 @@
+import { keyExpired, type ClientKeyStore, type KeyLifetime } from '../../client-key.ts';
 import { CAUTIONS, FAR_FROM_COVERAGE_CAUTION } from '../../../core/cautions/cautions.ts';
 import { DEFAULT_KEY_LIFETIME } from '../../client-key.ts';
 import { connect, type NearestResult } from '../../client.ts';
@@ -49,7 +50,7 @@ export async function queryCommand(args: string[], print: (line: string) => void
     endpoint: conn.endpoint,
     apiKey,
     modulusBits: DEFAULT_MODULUS_BITS,
-    keyStore: diskKeyStore(conn.home),
+    keyStore: announcingKeySetup(diskKeyStore(conn.home), keyLifetime),
     keyLifetime,
     sealedCache: diskSealedCache(conn.home),
   });
@@ -117,3 +118,15 @@ const formatMeters = (m: number) => (m < 1000 ? `${m.toFixed(0)} m` : `${(m / 10
 const kib = (bytes: number) => `${(bytes / 1024).toFixed(0)} KiB`;
 /** Decimal rounding for display: 6 places of a degree is about 0.1 m, finer than the quantisation. */
 const round = (x: number, places: number) => Math.round(x * 10 ** places) / 10 ** places;
+
+/** Says on stderr when a key must be made and proven first (about a second of CPU, once per key), so the wait is explained. */
+function announcingKeySetup(store: ClientKeyStore, lifetime: KeyLifetime): ClientKeyStore {
+  return {
+    ...store,
+    async load(bits) {
+      const stored = await store.load(bits);
+      if (!stored || keyExpired(stored, lifetime)) process.stderr.write(`Making and proving this machine's ${bits}-bit client key (about 1-2 s, once per key)...\n`);
+      return stored;
+    },
+  };
+}
