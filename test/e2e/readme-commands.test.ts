@@ -1,5 +1,5 @@
 import { spawnSync } from 'node:child_process';
-import { readFileSync } from 'node:fs';
+import { readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
@@ -7,6 +7,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
 import { ROOT, startProduct, type ProductServer } from '../product-server.ts';
+import { commandLines, readmeBlocks } from './readme-blocks.ts';
 
 /**
  * The README's two commands as a newcomer runs them: `npm start` (here on a spare port with its
@@ -72,17 +73,83 @@ describe('README commands', () => {
     }
   });
 
-  it('`nearveil import FILE --dataset pharmacies --max-k 3 --publish` makes a new dataset answerable, for the three nearest too', () => {
-    const imported = nearveil(['import', 'demo/my-sites.csv', '--dataset', 'pharmacies', '--max-k', '3', '--publish']);
-    expect(imported.code, imported.stderr).toBe(0);
-    expect(imported.stdout).toMatch(/version 1 is now active/);
-    const run = nearveil(['query', '--dataset', 'pharmacies', '--lat', '-75.95', '--lon', '60.29', '--json']);
-    expect(run.code, run.stderr).toBe(0);
-    expect(JSON.parse(run.stdout).version).toBe(1);
-    // The README's code sample asks this dataset for k = 3 at -75.93, 60.52.
-    const three = nearveil(['query', '--dataset', 'pharmacies', '--lat', '-75.93', '--lon', '60.52', '--k', '3', '--json']);
-    expect(three.code, three.stderr).toBe(0);
-    expect(JSON.parse(three.stdout).results).toHaveLength(3);
+  it('runs the README\'s "Two commands" as the product start does (npm start runs scripts/start.ts)', () => {
+    const [block] = readmeBlocks('Two commands');
+    expect(commandLines(block!.code)).toEqual(['npm ci && npm start', 'npm test']);
+    expect(JSON.parse(readFileSync(join(ROOT, 'package.json'), 'utf8')).scripts.start).toMatch(/tsx scripts\/start\.ts$/);
+  });
+
+  it('runs the README\'s "Try it" block as written: a query with its cautions, an import for k = 3, a k = 3 query and a plan', () => {
+    const [block] = readmeBlocks('Try it');
+    const lines = commandLines(block!.code);
+    expect(lines).toHaveLength(4);
+    const outputs = lines.map((line) => {
+      const run = spawnSync('bash', ['-c', line], { cwd: ROOT, env: product.env, encoding: 'utf8', timeout: 120_000 });
+      expect(run.status, `${line}\n${run.stderr}`).toBe(0);
+      return run.stdout;
+    });
+    // geokdbush (npm) names the nearest demo site to the README's point; the text answer must too.
+    const sites = parseSiteTable(harrowValeCsv()).sites;
+    const index = new KDBush(sites.length);
+    for (const s of sites) index.add(s.lon, s.lat);
+    index.finish();
+    expect(outputs[0]).toContain(sites[around(index, 60.52, -75.93, 1)[0]!]!.id);
+    expect(outputs[0]).toMatch(/Caution: Distances are straight-line/);
+    expect(outputs[0]).not.toMatch(/^Warning:/);
+    expect(outputs[1]).toMatch(/version 1 is now active/);
+    const three = JSON.parse(outputs[2]!) as { version: number; results: Array<{ id: string }>; farFromCoverage: boolean; cautions: Array<{ code: string }> };
+    const pharmacies = parseSiteTable(readFileSync(join(ROOT, 'demo/my-sites.csv'), 'utf8')).sites;
+    const small = new KDBush(pharmacies.length);
+    for (const s of pharmacies) small.add(s.lon, s.lat);
+    small.finish();
+    expect(three.results.map((r) => r.id)).toEqual(around(small, 60.52, -75.93, 3).map((i) => pharmacies[i as number]!.id));
+    expect(three.farFromCoverage).toBe(false);
+    expect(three.cautions.map((c) => c.code)).toEqual(['straight_line', 'may_be_out_of_date', 'emergency', 'network_privacy']);
+    expect(outputs[3]).toMatch(/^Layout: /m);
+  });
+
+  it('flags a point on another continent as far from coverage, in the JSON and the text', () => {
+    // Munich (48.14 N, 11.58 E, from memory) is some 13,000 km from the invented region.
+    const json = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '48.14', '--lon', '11.58', '--json']);
+    expect(json.code, json.stderr).toBe(0);
+    const out = JSON.parse(json.stdout) as { farFromCoverage: boolean; cautions: Array<{ code: string }>; results: Array<{ distanceMeters: number }> };
+    expect(out.farFromCoverage).toBe(true);
+    expect(out.cautions[0]!.code).toBe('far_from_coverage');
+    expect(out.results[0]!.distanceMeters).toBeGreaterThan(10_000_000);
+    const text = nearveil(['query', '--dataset', 'harrow-vale-care', '--lat', '48.14', '--lon', '11.58']);
+    expect(text.stdout).toMatch(/^Warning: This point is far outside the area these sites cover/);
+  });
+
+  it('runs the README\'s "From code" sample as written, with the API key from the environment', () => {
+    const [sample] = readmeBlocks('From code');
+    expect(sample!.lang).toBe('ts');
+    // A file beside sdk/ so its relative import resolves exactly as in a checkout.
+    const file = join(ROOT, `.readme-sample-${process.pid}.ts`);
+    writeFileSync(file, sample!.code);
+    try {
+      const saved = JSON.parse(readFileSync(join(product.env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { apiKey: string };
+      const run = spawnSync(process.execPath, ['node_modules/tsx/dist/cli.mjs', file], {
+        cwd: ROOT,
+        env: { ...product.env, NEARVEIL_ENDPOINT: product.base, NEARVEIL_API_KEY: saved.apiKey },
+        encoding: 'utf8',
+        timeout: 120_000,
+      });
+      expect(run.status, run.stderr).toBe(0);
+      const sites = parseSiteTable(harrowValeCsv()).sites;
+      const index = new KDBush(sites.length);
+      for (const s of sites) index.add(s.lon, s.lat);
+      index.finish();
+      const nearest = sites[around(index, 60.52, -75.93, 1)[0]!]!;
+      const lines = run.stdout.split('\n');
+      expect(lines[0]).toMatch(new RegExp(`^${nearest.id} \\d+ m in a straight line$`));
+      expect(lines.filter((l) => l.startsWith('Caution: '))).toHaveLength(4);
+      expect(run.stdout).not.toContain('far from every listed site');
+      expect(lines.find((l) => /^HV-\d{4}, HV-\d{4}, HV-\d{4}$/.test(l))).toBeDefined();
+      expect(run.stdout).toContain(`id: '${nearest.id}'`);
+      expect(run.stdout).toMatch(/phone: '\+999 4021 01\d\d'/);
+    } finally {
+      rmSync(file, { force: true });
+    }
   });
 
   it('`nearveil versions`, `publish` and `rollback` switch the active version of the imported dataset', () => {
