@@ -14,14 +14,41 @@ export function limitBody(maxBytes: number): MiddlewareHandler {
   });
 }
 
+
+/**
+ * Reads and drops what is left of a refused body, up to `maxBytes`, then cancels it. A server that
+ * answers while the client is still sending gets its answer lost by some proxies (wrangler dev
+ * answers 503 "restarted mid-request", or the client waits on a full window), so a body at most
+ * twice the limit is read to its end and the client sees the complete 413; a longer one is cut.
+ */
+async function drain(reader: ReadableStreamDefaultReader<Uint8Array>, maxBytes: number): Promise<void> {
+  let dropped = 0;
+  for (;;) {
+    const { done, value } = await reader.read();
+    if (done) return;
+    dropped += value.byteLength;
+    if (dropped > maxBytes) {
+      await reader.cancel('body too large');
+      return;
+    }
+  }
+}
+
 /**
  * Reads a body up to `maxBytes`, refusing with 413 as soon as the declared length or the bytes
  * streamed so far pass it: a body sent without Content-Length (chunked) is never read whole.
+ * Large bodies go through here, not limitBody: hono's bodyLimit gathers a chunked body in a
+ * buffer it doubles, up to twice the limit at once, which for a 64 MiB upload was more than an
+ * isolate's 128 MB (the Worker restarted mid-request). Here chunks are kept as they come and
+ * copied once, so the peak is twice the bytes actually received.
  */
-export async function readLimitedBytes(request: Request, maxBytes: number): Promise<Uint8Array> {
+export async function readLimitedBytes(request: Request, maxBytes: number): Promise<Uint8Array<ArrayBuffer>> {
   const tooLarge = (got: string) => new ApiError(413, 'body_too_large', `body: at most ${maxBytes} bytes are accepted here, got ${got}`, 'body');
   const declared = request.headers.get('content-length');
-  if (declared !== null && Number(declared) > maxBytes) throw tooLarge(declared);
+  if (declared !== null && Number(declared) > maxBytes) {
+    if (Number(declared) <= 2 * maxBytes && request.body) await drain(request.body.getReader(), maxBytes);
+    throw tooLarge(declared);
+  }
   if (request.body === null) return new Uint8Array(0);
   const reader = request.body.getReader();
   const chunks: Uint8Array[] = [];
@@ -31,7 +58,7 @@ export async function readLimitedBytes(request: Request, maxBytes: number): Prom
     if (done) break;
     total += value.byteLength;
     if (total > maxBytes) {
-      await reader.cancel('body too large');
+      await drain(reader, maxBytes);
       throw tooLarge(`more than that after ${total} bytes`);
     }
     chunks.push(value);
