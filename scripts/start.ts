@@ -13,6 +13,7 @@ import { CREDENTIALS_FILE, nearveilHome, readDevCredentials, writePrivateJson } 
 import { harrowValeCsv } from './demo/harrow-vale.ts';
 import { DEMO_DATASET, ensureDemoTariff, ensureDemoTenant, ensureDevUsers } from './dev/seed.ts';
 import type { ChildProcess } from 'node:child_process';
+import { snapshotSources } from './dev/source-snapshot.ts';
 import { PROJECT_ROOT, startWranglerDev, stopWranglerDev, wrangler } from './dev/wrangler.ts';
 
 const port = Number(process.env.PORT ?? 8787);
@@ -73,7 +74,10 @@ async function start(): Promise<void> {
   // state folder's own keeps other local runs of a Worker named "nearveil" from reloading this one.
   // Tests that start servers side by side give each its own debugger port (wrangler's default is 9229).
   const inspector = process.env.NEARVEIL_INSPECTOR_PORT ? ['--inspector-port', process.env.NEARVEIL_INSPECTOR_PORT] : [];
-  const dev = startWranglerDev(['--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false', ...inspector], {
+  // From a copy of the sources: wrangler dev would otherwise restart the Worker on every edit.
+  const snapshot = snapshotSources(`port-${port}`);
+  process.on('exit', () => snapshot.remove());
+  const dev = startWranglerDev(['--config', snapshot.config, '--ip', '127.0.0.1', '--port', String(port), '--persist-to', persistTo, '--show-interactive-dev-session=false', ...inspector], {
     WRANGLER_REGISTRY_PATH: join(persistTo, 'dev-registry'),
   });
   devProcess = dev;

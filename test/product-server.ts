@@ -62,6 +62,8 @@ export async function startProduct(name: string): Promise<ProductServer> {
     async stop() {
       await stopGroup(child);
       rmSync(scratch, { recursive: true, force: true });
+      // The copy of the sources npm start ran from (scripts/dev/source-snapshot.ts), if the kill came first.
+      rmSync(join(ROOT, '.wrangler', 'run', `port-${port}`), { recursive: true, force: true });
     },
   };
   const until = Date.now() + 170_000;
