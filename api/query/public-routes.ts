@@ -123,7 +123,10 @@ function activeVersionOf(dataset: DatasetRow): number {
 async function servedVersion(db: Parameters<typeof findVersion>[0], dataset: DatasetRow, number: number): Promise<VersionRow> {
   const version = await findVersion(db, dataset, number);
   if (!isAnswerable(version) || !version.manifestKey || !version.matrixKey) {
-    throw new ApiError(410, 'version_not_served', `version ${number} of "${dataset.slug}" is ${version.state} and answers no queries`, 'version');
+    // A "ready" version answers only during the grace after it was replaced: say which case it is.
+    const why =
+      version.state !== 'ready' ? `is ${version.state}` : version.servedUntil === null ? 'is built but was never published' : `was replaced and its grace period ended at ${version.servedUntil}`;
+    throw new ApiError(410, 'version_not_served', `version ${number} of "${dataset.slug}" ${why}; it answers no queries`, 'version');
   }
   return version;
 }

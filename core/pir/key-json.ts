@@ -1,3 +1,4 @@
+import { isProbablePrime } from '../bigint/primes.ts';
 import { assembleKeyPair } from './key-check.ts';
 import type { PirKeyPair } from './key-pair.ts';
 import { ALLOWED_MODULUS_BITS, isAllowedModulusBits } from './params.ts';
@@ -32,10 +33,17 @@ function hexField(json: Record<string, unknown>, name: string): bigint {
   return BigInt('0x' + v);
 }
 
+/** Miller-Rabin rounds for the p and q of a stored key (see keyPairFromJson). */
+const STORED_KEY_ROUNDS = 8;
+
 /**
  * Stored form back to a key pair; every invariant of PirKeyPair is re-checked (n = p*q, bit
- * length, an allowed modulus size, w non-residue mod p and q). Throws TypeError for a malformed object and RangeError for
- * values that break an invariant. Primality of p and q is not re-tested.
+ * length, an allowed modulus size, w non-residue mod p and q, p and q prime). Throws TypeError
+ * for a malformed object and RangeError for values that break an invariant. A composite p or q
+ * passes every other check (the Jacobi symbol stands in for the Legendre symbol) and would then
+ * decode answers wrongly, so both are tested. A stored key is read on every CLI run and page
+ * load, and only its owner can make it composite, so 8 Miller-Rabin rounds (a composite passes
+ * with probability at most 4^-8) stand instead of the 64 used when a prime is made.
  */
 export function keyPairFromJson(value: unknown): PirKeyPair {
   if (typeof value !== 'object' || value === null) throw new TypeError(`keyPairFromJson: expected object, got ${value === null ? 'null' : typeof value}`);
@@ -47,5 +55,8 @@ export function keyPairFromJson(value: unknown): PirKeyPair {
   }
   const key = assembleKeyPair(hexField(json, 'p'), hexField(json, 'q'), json.modulusBits, hexField(json, 'w'));
   if (key.n !== hexField(json, 'n')) throw new RangeError('keyPairFromJson: expected n = p*q, got a different n');
+  for (const name of ['p', 'q'] as const) {
+    if (!isProbablePrime(key[name], STORED_KEY_ROUNDS)) throw new RangeError(`keyPairFromJson: expected ${name} to be prime, got a composite number`);
+  }
   return key;
 }

@@ -10,16 +10,18 @@ import { writePrivateJson } from './dev-home.ts';
  * `<home>/client-key-<bits>.json` (mode 0600), so later queries skip making, proving and
  * registering a key until its lifetime ends. The key never leaves this machine; only the proof
  * (which holds the modulus, not its factors) is sent. A file that does not read back whole
- * (damaged, or from before keys had proofs) is replaced by a new key: it holds no data worth keeping.
+ * (damaged, a composite p or q, or from before keys had proofs) is refused with a line on
+ * `warn` naming the file and the reason, and replaced by a new key: it holds no data worth keeping.
  */
-export function diskKeyStore(home: string): ClientKeyStore {
+export function diskKeyStore(home: string, warn: (line: string) => void = (line) => process.stderr.write(line + '\n')): ClientKeyStore {
   const path = (bits: number) => join(home, `client-key-${bits}.json`);
   return {
     async load(bits) {
       if (!existsSync(path(bits))) return null;
       try {
         return fromJson(JSON.parse(readFileSync(path(bits), 'utf8')));
-      } catch {
+      } catch (err) {
+        warn(`nearveil: the client key in ${path(bits)} is refused (${err instanceof Error ? err.message : String(err)}); a new key is made and registered in its place`);
         return null;
       }
     },

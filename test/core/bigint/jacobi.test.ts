@@ -75,15 +75,15 @@ const anyInt = fc.bigInt({ min: -(1n << 220n), max: 1n << 220n });
 
 describe('jacobi: algebraic laws (fast-check)', () => {
   it('is multiplicative in a: (ab/n) = (a/n)(b/n)', () => {
-    fc.assert(fc.property(anyInt, anyInt, oddModulus, (a, b, n) => jacobi(a * b, n) === jacobi(a, n) * jacobi(b, n)));
+    fc.assert(fc.property(anyInt, anyInt, oddModulus, (a, b, n) => jacobi(a * b, n) === jacobi(a, n) * jacobi(b, n)), { seed: 20261203 });
   });
 
   it('is multiplicative in n: (a/mn) = (a/m)(a/n)', () => {
-    fc.assert(fc.property(anyInt, oddModulus, oddModulus, (a, m, n) => jacobi(a, m * n) === jacobi(a, m) * jacobi(a, n)));
+    fc.assert(fc.property(anyInt, oddModulus, oddModulus, (a, m, n) => jacobi(a, m * n) === jacobi(a, m) * jacobi(a, n)), { seed: 20261203 });
   });
 
   it('depends only on a mod n: (a+n/n) = (a/n), also for negative a', () => {
-    fc.assert(fc.property(anyInt, oddModulus, fc.integer({ min: -3, max: 3 }), (a, n, k) => jacobi(a + BigInt(k) * n, n) === jacobi(a, n)));
+    fc.assert(fc.property(anyInt, oddModulus, fc.integer({ min: -3, max: 3 }), (a, n, k) => jacobi(a + BigInt(k) * n, n) === jacobi(a, n)), { seed: 20261203 });
   });
 
   it('is 0 exactly when gcd(a, n) > 1 (checked with jsbn gcd)', () => {
@@ -92,6 +92,7 @@ describe('jacobi: algebraic laws (fast-check)', () => {
         const shared = big(a).gcd(big(n)).toString(16) !== '1';
         return (jacobi(a, n) === 0) === shared;
       }),
+      { seed: 20261203 },
     );
   });
 });

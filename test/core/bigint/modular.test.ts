@@ -35,7 +35,7 @@ describe('modPow', () => {
 
 describe('gcd and modInverse', () => {
   it('gcd matches jsbn gcd (fast-check)', () => {
-    fc.assert(fc.property(nonNeg, nonNeg, (a, b) => gcd(a, b) === back(big(a).gcd(big(b)))));
+    fc.assert(fc.property(nonNeg, nonNeg, (a, b) => gcd(a, b) === back(big(a).gcd(big(b)))), { seed: 20261203 });
     expect(gcd(-12n, 18n)).toBe(6n);
     expect(gcd(0n, 0n)).toBe(0n);
   });
@@ -47,6 +47,7 @@ describe('gcd and modInverse', () => {
         expect(() => modInverse(a, n)).toThrow(RangeError);
         return true;
       }),
+      { seed: 20261203 },
     );
   });
 

@@ -22,7 +22,7 @@ describe('greatCircleMeters', () => {
         const ours = greatCircleMeters(a, b, c, d);
         expect(Math.abs(ours - theirs)).toBeLessThan(asinReferenceTolerance(ours, 1e-3));
       }),
-      { numRuns: 500 },
+      { numRuns: 500, seed: 20261203 },
     );
   });
 
@@ -53,7 +53,7 @@ describe('greatCircleMeters', () => {
         expect(Math.abs(ab - greatCircleMeters(c, d, a, b))).toBeLessThan(1e-6);
         expect(ab).toBeLessThanOrEqual(greatCircleMeters(a, b, e, f) + greatCircleMeters(e, f, c, d) + 1e-6);
       }),
-      { numRuns: 2000 },
+      { numRuns: 2000, seed: 20261203 },
     );
   });
 });
@@ -70,7 +70,7 @@ describe('unit vectors and chords', () => {
         expect(Math.abs(angleOfChord(chord) * EARTH_MEAN_RADIUS_M - exact)).toBeLessThan(asinReferenceTolerance(exact, 0.005));
         expect(chordOfAngle(angleOfChord(chord))).toBeCloseTo(chord, 12);
       }),
-      { numRuns: 2000 },
+      { numRuns: 2000, seed: 20261203 },
     );
   });
 });

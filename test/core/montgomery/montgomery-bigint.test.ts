@@ -23,7 +23,7 @@ for (const bits of [2048, 3072]) {
             expect(m.toMontgomery(a)).toBe(back(big(a).shiftLeft(m.rBits).mod(big(n))));
           },
         ),
-        { numRuns: 30 },
+        { numRuns: 30, seed: 20261203 },
       );
     });
   });
