@@ -8,6 +8,7 @@ import { sessionRoutes } from './auth/session-routes.ts';
 import { statementRoutes } from './billing/billing-routes.ts';
 import { tariffRoutes } from './billing/tariff-routes.ts';
 import { adminDatasetRoutes } from './datasets/admin-routes.ts';
+import { datasetLifecycleRoutes } from './datasets/dataset-lifecycle-routes.ts';
 import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
@@ -25,6 +26,7 @@ export const app = new Hono<AppBindings>()
   .route('/v1', sessionRoutes)
   .route('/v1', passwordRoutes)
   .route('/v1/admin', adminDatasetRoutes)
+  .route('/v1/admin', datasetLifecycleRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)
   .route('/v1/admin', usageRoutes)

@@ -20,9 +20,12 @@ export interface VersionInfo {
   /** While building: the stage and the percent of the whole build reached. */
   progress: { stage: string; percent: number } | null;
   error: string | null;
-  layout: 'grid' | 'kd' | 'veiled' | null;
+  /** The layout built (null before a build), named as the build's layout option names it. */
+  layout: 'grid' | 'adaptive' | 'veiled' | null;
   /** Why the build chose its layout: its cost per query and what became of the others weighed. */
   layoutReason: string | null;
+  /** The layout the last build asked for: 'auto' when the build chose (null before any build). */
+  requestedLayout: LayoutChoice | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
   /** k nearest the built matrix serves. */
   maxK: number | null;
@@ -32,6 +35,22 @@ export interface VersionInfo {
   /** A version no longer active answers until then, then retires. */
   servedUntil: string | null;
   retiredAt: string | null;
+}
+
+export interface DatasetInfo {
+  slug: string;
+  /** The name people read; a rename changes it, never the slug. */
+  name: string;
+  activeVersion: number | null;
+  createdAt: string;
+}
+
+export interface DeletedDataset {
+  dataset: string;
+  name: string;
+  deletedAt: string;
+  /** The version that was active when it was deleted, and stopped answering. */
+  activeVersion: number | null;
 }
 
 export interface Switched {
@@ -92,12 +111,14 @@ export function connectAdmin(options: AdminOptions) {
   const versionPath = (dataset: string, version: number) => `v1/admin/datasets/${encodeURIComponent(dataset)}/versions/${version}`;
 
   return {
-    /** Creates the dataset unless it exists already. */
-    async ensureDataset(slug: string, name?: string): Promise<void> {
+    /** Creates the dataset unless it exists already; true when this call created it. */
+    async ensureDataset(slug: string, name?: string): Promise<boolean> {
       try {
         await json('POST', 'v1/admin/datasets', { slug, ...(name ? { name } : {}) });
+        return true;
       } catch (err) {
         if (!(err instanceof NearveilError && err.code === 'dataset_exists')) throw err;
+        return false;
       }
     },
     async uploadSiteTable(dataset: string, csv: string | Uint8Array<ArrayBuffer>): Promise<VersionInfo> {
@@ -133,6 +154,16 @@ export function connectAdmin(options: AdminOptions) {
         if (Date.now() > until) throw new NearveilError(0, 'build_timeout', `version ${version} of "${dataset}" is still building (${info.progress?.stage ?? 'queued'}); check again with \`nearveil versions\``);
       }
     },
+    /** The tenant's datasets (deleted ones are left out). */
+    datasets: async () => (await json<{ datasets: DatasetInfo[] }>('GET', 'v1/admin/datasets')).datasets,
+    /** Changes the name people read; the slug stays (apps use it in their URLs). */
+    renameDataset: (dataset: string, name: string) => json<DatasetInfo>('PATCH', `v1/admin/datasets/${encodeURIComponent(dataset)}`, { name }),
+    /**
+     * Deletes a dataset (tenant admins): it answers no query from then on, its usage stays in
+     * reports and its slug is never reused. One with an active version needs `confirm` = its slug.
+     */
+    deleteDataset: (dataset: string, options: { confirm?: string } = {}) =>
+      json<DeletedDataset>('DELETE', `v1/admin/datasets/${encodeURIComponent(dataset)}`, options.confirm === undefined ? {} : { confirm: options.confirm }),
     version: (dataset: string, version: number) => json<VersionInfo>('GET', versionPath(dataset, version)),
     publish: (dataset: string, version: number) => json<Switched>('POST', `${versionPath(dataset, version)}/publish`),
     /** Switches back to `toVersion`, or by default to the newest earlier version that was published. */

@@ -1,4 +1,4 @@
-import { asc, count, eq } from 'drizzle-orm';
+import { asc, count, eq, isNull } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { requireRole } from '../auth/principal.ts';
 import { recordAudit } from '../audit/record-audit.ts';
@@ -44,7 +44,7 @@ export const tenantRoutes = new Hono<AppBindings>()
     const [rows, userCounts, datasetCounts] = await Promise.all([
       db.select().from(tenants).orderBy(asc(tenants.slug)),
       db.select({ tenantId: users.tenantId, n: count() }).from(users).groupBy(users.tenantId),
-      db.select({ tenantId: datasets.tenantId, n: count() }).from(datasets).groupBy(datasets.tenantId),
+      db.select({ tenantId: datasets.tenantId, n: count() }).from(datasets).where(isNull(datasets.deletedAt)).groupBy(datasets.tenantId),
     ]);
     const countOf = (list: Array<{ tenantId: string | null; n: number }>, id: string) => list.find((r) => r.tenantId === id)?.n ?? 0;
     return c.json({

@@ -52,7 +52,7 @@ export const keyRoutes = new Hono<AppBindings>()
       const known = await db
         .select({ slug: datasets.slug })
         .from(datasets)
-        .where(and(eq(datasets.tenantId, c.var.tenantId), inArray(datasets.slug, scope)));
+        .where(and(eq(datasets.tenantId, c.var.tenantId), inArray(datasets.slug, scope), isNull(datasets.deletedAt)));
       const missing = scope.filter((s) => !known.some((k) => k.slug === s));
       if (missing.length > 0) {
         const index = body.datasets!.indexOf(missing[0]!);

@@ -1,6 +1,6 @@
 import type { UsageReport } from '../metering/usage-report.ts';
 import { formatMicros, lineAmount } from './money.ts';
-import { spreadsheetSafeField } from '../../core/csv-writing/csv-field.ts';
+import { formatMinorUnits, microsToMinorUnits, minorUnitDecimals } from './statement-minor-units.ts';
 
 export interface Tariff {
   fromMonth: string;
@@ -18,20 +18,28 @@ export interface StatementLine {
   unitPriceMicros: number;
   pricedPer: number;
   amountMicros: number;
+  /** amountMicros rounded half up to the currency's minor unit, as text: "12.34" EUR, "1234" JPY. */
+  amount: string;
 }
 
 export interface Statement {
   tenant: string;
   month: string;
   currency: string;
-  amountsIn: 'micro-units (1/1,000,000 of the currency)';
+  amountsIn: typeof AMOUNTS_IN;
   tariff: Tariff;
   usage: UsageReport['totals'];
   lines: StatementLine[];
   totalMicros: number;
   total: string;
+  /** Decimals of the currency's minor unit (ISO 4217): 2 for EUR, 0 for JPY. */
+  currencyDecimals: number;
+  /** What is payable: the sum of the lines' rounded amounts, so the amount column adds up to it. */
+  amountDue: string;
   days: UsageReport['days'];
 }
+
+const AMOUNTS_IN = 'fields ending in Micros: micro-units (1/1,000,000 of the currency); amount and amountDue: its ISO 4217 minor unit';
 
 /** 1 GB = 10^9 bytes (SI), bytes in plus bytes out. */
 export const BYTES_PER_GB = 1_000_000_000;
@@ -44,7 +52,7 @@ export const MULTIPLICATIONS_PER_MILLION = 1_000_000;
 export function buildStatement(tenant: string, currency: string, tariff: Tariff, usage: UsageReport): Statement {
   const u = usage.totals;
   const moved = u.bytesIn + u.bytesOut;
-  const lines: StatementLine[] = [
+  const priced: Array<Omit<StatementLine, 'amount'>> = [
     { item: 'monthly_base', quantity: 1, unit: 'month', unitPriceMicros: tariff.monthlyBaseMicros, pricedPer: 1, amountMicros: tariff.monthlyBaseMicros },
     { item: 'queries', quantity: u.queries, unit: 'query', unitPriceMicros: tariff.queryMicros, pricedPer: 1, amountMicros: lineAmount(u.queries, tariff.queryMicros) },
     { item: 'transfer', quantity: moved, unit: 'byte', unitPriceMicros: tariff.gbMicros, pricedPer: BYTES_PER_GB, amountMicros: lineAmount(moved, tariff.gbMicros, BYTES_PER_GB) },
@@ -57,35 +65,22 @@ export function buildStatement(tenant: string, currency: string, tariff: Tariff,
       amountMicros: lineAmount(u.multiplications, tariff.millionMultiplicationsMicros, MULTIPLICATIONS_PER_MILLION),
     },
   ];
+  const decimals = minorUnitDecimals(currency);
+  const lines: StatementLine[] = priced.map((l) => ({ ...l, amount: formatMinorUnits(microsToMinorUnits(l.amountMicros, decimals), decimals) }));
   const totalMicros = lines.reduce((sum, l) => sum + l.amountMicros, 0);
+  const dueMinor = lines.reduce((sum, l) => sum + microsToMinorUnits(l.amountMicros, decimals), 0);
   return {
     tenant,
     month: usage.month,
     currency,
-    amountsIn: 'micro-units (1/1,000,000 of the currency)',
+    amountsIn: AMOUNTS_IN,
     tariff,
     usage: u,
     lines,
     totalMicros,
     total: `${formatMicros(totalMicros)} ${currency}`,
+    currencyDecimals: decimals,
+    amountDue: formatMinorUnits(dueMinor, decimals),
     days: usage.days,
   };
-}
-
-/** One CSV field per RFC 4180: quoted when it holds a comma, quote or line break. */
-
-/**
- * The statement as CSV (RFC 4180, CRLF line ends): one row per line, then the total row, then
- * one row per day of usage so the lines can be recomputed in a spreadsheet. Text cells that a
- * spreadsheet could run as a formula are neutralised (core/csv-writing/csv-field.ts).
- */
-export function statementCsv(s: Statement): string {
-  const header = ['tenant', 'month', 'currency', 'item', 'quantity', 'unit', 'unit_price_micros', 'priced_per', 'amount_micros'];
-  const rows: Array<Array<string | number>> = [header];
-  for (const l of s.lines) rows.push([s.tenant, s.month, s.currency, l.item, l.quantity, l.unit, l.unitPriceMicros, l.pricedPer, l.amountMicros]);
-  rows.push([s.tenant, s.month, s.currency, 'total', '', '', '', '', s.totalMicros]);
-  rows.push([]);
-  rows.push(['day', 'queries', 'rejected', 'bytes_in', 'bytes_out', 'multiplications']);
-  for (const d of s.days) rows.push([d.day, d.queries, d.rejected, d.bytesIn, d.bytesOut, d.multiplications]);
-  return rows.map((r) => r.map(spreadsheetSafeField).join(',')).join('\r\n') + '\r\n';
 }

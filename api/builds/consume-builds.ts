@@ -45,6 +45,11 @@ async function buildOnce(env: Env, db: Database, job: BuildMessage, attempt: num
   // A build resumed after its Worker died (queue-build.ts, resumeIfSilent) comes as a new
   // message: the row's count of attempts started keeps counting it.
   attempt = Math.max(attempt, row.version.buildAttempts + 1);
+  // A deleted dataset answers nothing: building it would only leave blobs for the sweep.
+  if (row.dataset.deletedAt !== null) {
+    await db.update(versions).set({ state: 'failed', error: 'not built: the dataset was deleted' }).where(where);
+    return 'done';
+  }
   if (attempt > attempts) {
     await db.update(versions).set({ state: 'failed', error: `build interrupted: no attempt finished within ${attempts} deliveries` }).where(where);
     return 'done';

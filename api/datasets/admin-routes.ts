@@ -1,4 +1,4 @@
-import { eq } from 'drizzle-orm';
+import { and, eq, isNull } from 'drizzle-orm';
 import { Hono } from 'hono';
 import { z } from 'zod';
 import { MAX_K } from '../../core/geo/manifest.ts';
@@ -9,7 +9,7 @@ import { database } from '../db/client.ts';
 import { datasets } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
-import { limitBody } from '../http/body-limit.ts';
+import { limitBody, readLimitedBytes } from '../http/body-limit.ts';
 import { jsonBody, pathSlug, pathVersion, SlugSchema } from '../http/params.ts';
 import { blobKeys, getBlobText, putBlob } from '../storage/blobs.ts';
 import { checkBuildRequest } from '../../core/build/build-version.ts';
@@ -17,16 +17,21 @@ import { siteColumnSteps } from '../../core/build/site-columns.ts';
 import { decodeUtf8File } from '../../core/text/utf8-file.ts';
 import { runStepsPaused } from '../../core/steps/steps.ts';
 import { isolatePause } from '../builds/isolate-pause.ts';
-import { findDataset, findVersion, insertDraftVersion, listVersions, type VersionRow } from './repository.ts';
+import { findDataset, findDatasetWithHistory, findVersion, insertDraftVersion, listVersions } from './repository.ts';
+import { datasetView, versionView } from './views.ts';
+import { DatasetNameSchema } from './dataset-name.ts';
 import { queueBuild, resumeIfSilent } from '../builds/queue-build.ts';
-import { sha256Hex, type BuildSummary } from '../builds/run-build.ts';
+import { sha256Hex } from '../builds/run-build.ts';
 import { activateVersion, graceSeconds, rollbackTarget } from './activate-version.ts';
-import { sweepVersions } from './retire-versions.ts';
+import { sweepQuietly } from './retire-versions.ts';
 
-/** Largest site table upload: 200,000 rows of a few hundred bytes fit. */
-export const MAX_SITE_TABLE_BYTES = 64 * 1024 * 1024;
+/**
+ * Largest site table upload: 200,000 rows of up to 160 bytes. The bytes, their text and the
+ * columns read from them must fit one isolate's 128 MB together (Cloudflare Workers limits).
+ */
+export const MAX_SITE_TABLE_BYTES = 32 * 1024 * 1024;
 
-export const CreateDatasetBody = z.object({ slug: SlugSchema, name: z.string().trim().min(1).max(200).optional() }).strict();
+export const CreateDatasetBody = z.object({ slug: SlugSchema, name: DatasetNameSchema.optional() }).strict();
 
 /** Editors create datasets, upload and build; publishing is for tenant admins (and the operator). */
 const editor = requireRole('tenant_editor');
@@ -42,12 +47,19 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
       .values({ id: crypto.randomUUID(), tenantId: c.var.tenantId, slug: body.slug, name: body.name ?? body.slug })
       .onConflictDoNothing()
       .returning();
-    if (inserted.length === 0) throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    if (inserted.length === 0) {
+      // A deleted dataset keeps its slug: apps and API keys that named it never reach other data.
+      const existing = await findDatasetWithHistory(db, c.var.tenantId, body.slug);
+      if (existing.deletedAt !== null) {
+        throw new ApiError(409, 'slug_retired', `slug: "${body.slug}" belonged to a dataset deleted on ${existing.deletedAt.slice(0, 10)}; a slug is never given to another dataset (apps and API keys may still name it), so choose another`, 'slug');
+      }
+      throw new ApiError(409, 'dataset_exists', `dataset "${body.slug}" already exists`, 'slug');
+    }
     await recordAudit(c, { action: 'dataset.create', target: `dataset ${body.slug}`, detail: { name: inserted[0]!.name } });
     return c.json(datasetView(inserted[0]!), 201);
   })
   .get('/datasets', async (c) => {
-    const rows = await database(c.env).select().from(datasets).where(eq(datasets.tenantId, c.var.tenantId));
+    const rows = await database(c.env).select().from(datasets).where(and(eq(datasets.tenantId, c.var.tenantId), isNull(datasets.deletedAt)));
     return c.json({ datasets: rows.map(datasetView) });
   })
   .get('/datasets/:dataset/versions', async (c) => {
@@ -58,14 +70,14 @@ export const adminDatasetRoutes = new Hono<AppBindings>()
     for (const row of rows) await resumeIfSilent(c.env, db, row);
     return c.json({ dataset: dataset.slug, activeVersion: dataset.activeVersion, versions: (await listVersions(db, dataset.id)).map(versionView) });
   })
-  .post('/datasets/:dataset/versions', limitBody(MAX_SITE_TABLE_BYTES), async (c) => {
+  .post('/datasets/:dataset/versions', async (c) => {
     const db = database(c.env);
     const dataset = await findDataset(db, c.var.tenantId, pathSlug(c.req.param('dataset'), 'dataset'));
     const type = c.req.header('content-type') ?? '';
     if (!/^text\/csv\b/i.test(type)) {
       throw new ApiError(415, 'content_type', `body: expected Content-Type text/csv, got "${type || 'none'}"`, 'content-type');
     }
-    const bytes = new Uint8Array(await c.req.arrayBuffer());
+    const bytes = await readLimitedBytes(c.req.raw, MAX_SITE_TABLE_BYTES);
     // Text that is not UTF-8 is refused (naming line and byte), never decoded with replacements.
     // Read into columns as a build would (a large table fits the isolate); records over the
     // details size limit are refused now, naming their rows, not at build time.
@@ -133,42 +145,6 @@ function parseJson(text: string): unknown {
   } catch {
     throw new ApiError(400, 'invalid_json', 'body: expected a JSON object', 'body');
   }
-}
-
-/** Retires versions whose grace has passed; a failing sweep is logged, the next one catches up. */
-async function sweepQuietly(env: AppBindings['Bindings']): Promise<void> {
-  try {
-    await sweepVersions(env);
-  } catch (err) {
-    console.error('nearveil: version sweep failed', err);
-  }
-}
-
-function datasetView(row: typeof datasets.$inferSelect) {
-  return { slug: row.slug, name: row.name, activeVersion: row.activeVersion, createdAt: row.createdAt };
-}
-
-function versionView(row: VersionRow) {
-  const summary = row.summary === null ? null : (JSON.parse(row.summary) as BuildSummary);
-  return {
-    version: row.number,
-    state: row.state,
-    siteCount: row.siteCount,
-    author: row.createdBy,
-    contentHash: row.contentHash,
-    progress: row.state === 'building' && row.progressStage !== null ? { stage: row.progressStage, percent: row.progressPercent ?? 0 } : null,
-    error: row.error,
-    layout: summary?.layout ?? null,
-    layoutReason: summary?.layoutReason ?? null,
-    maxK: summary === null ? null : (summary.maxK ?? 1),
-    matrix: summary === null ? null : { rows: summary.rows, columns: summary.columns, ones: summary.ones, products: summary.products },
-    buildAttempts: row.buildAttempts,
-    createdAt: row.createdAt,
-    builtAt: row.builtAt,
-    publishedAt: row.publishedAt,
-    servedUntil: row.servedUntil,
-    retiredAt: row.retiredAt,
-  };
 }
 
 /** The build's `maxK` query parameter: k nearest served, a whole number 1..MAX_K (default 1). */

@@ -6,7 +6,18 @@ import { ApiError } from '../http/api-error.ts';
 export type DatasetRow = typeof datasets.$inferSelect;
 export type VersionRow = typeof versions.$inferSelect;
 
+/** A dataset that may be worked with or queried: a deleted one is refused (404 dataset_deleted). */
 export async function findDataset(db: Database, tenantId: string, slug: string): Promise<DatasetRow> {
+  const row = await findDatasetWithHistory(db, tenantId, slug);
+  if (row.deletedAt !== null) throw deletedDataset(row);
+  return row;
+}
+
+/**
+ * A dataset, deleted or not: for what stays readable after a delete (usage, statements). Slugs
+ * are never reused, so a slug names one dataset for good.
+ */
+export async function findDatasetWithHistory(db: Database, tenantId: string, slug: string): Promise<DatasetRow> {
   const [row] = await db
     .select()
     .from(datasets)
@@ -14,6 +25,10 @@ export async function findDataset(db: Database, tenantId: string, slug: string):
     .limit(1);
   if (!row) throw new ApiError(404, 'dataset_unknown', `dataset "${slug}" does not exist for this tenant`, 'dataset');
   return row;
+}
+
+export function deletedDataset(row: DatasetRow): ApiError {
+  return new ApiError(404, 'dataset_deleted', `dataset "${row.slug}" was deleted on ${row.deletedAt!.slice(0, 10)}; it answers no queries and its slug is not given to another dataset`, 'dataset');
 }
 
 export async function findVersion(db: Database, dataset: DatasetRow, number: number): Promise<VersionRow> {

@@ -52,6 +52,13 @@ export const datasets = sqliteTable(
     name: text('name').notNull(),
     activeVersion: integer('active_version'),
     createdAt: text('created_at').notNull().default(sql`(strftime('%Y-%m-%dT%H:%M:%fZ','now'))`),
+    /**
+     * Set when a tenant admin deleted the dataset: it is hidden and answers nothing, but the row
+     * stays so usage rows and statements keep their dataset, and its slug is never reused.
+     */
+    deletedAt: text('deleted_at'),
+    /** Set by the sweep once every blob of a deleted dataset was collected (null: some remain). */
+    blobsCollectedAt: text('blobs_collected_at'),
   },
   (t) => [uniqueIndex('datasets_tenant_slug').on(t.tenantId, t.slug)],
 );

@@ -2,6 +2,7 @@ import { Hono } from 'hono';
 import { requireRole } from '../auth/principal.ts';
 import { tenantInScope } from '../auth/tenant-scope.ts';
 import { database } from '../db/client.ts';
+import { findDatasetWithHistory } from '../datasets/repository.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
 import { pathSlug } from '../http/params.ts';
@@ -21,6 +22,9 @@ export const usageRoutes = new Hono<AppBindings>().use('/usage', requireRole('te
   const month = monthParam(c.req.query('month'));
   const datasetParam = c.req.query('dataset');
   const dataset = datasetParam === undefined ? undefined : pathSlug(datasetParam, 'dataset');
-  const report = await usageReport(database(c.env), tenant.id, month, dataset);
+  const db = database(c.env);
+  // A misspelt slug gets 404 (not a report of zeros); a deleted dataset's usage stays readable.
+  if (dataset !== undefined) await findDatasetWithHistory(db, tenant.id, dataset);
+  const report = await usageReport(db, tenant.id, month, dataset);
   return c.json({ tenant: tenant.slug, dataset: dataset ?? null, ...report });
 });

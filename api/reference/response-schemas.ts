@@ -27,6 +27,15 @@ export const Dataset = z
   .object({ slug: z.string(), name: z.string(), activeVersion: z.number().int().nullable(), createdAt: z.string() })
   .meta({ id: 'Dataset' });
 
+export const DeletedDataset = z
+  .object({
+    dataset: z.string(),
+    name: z.string(),
+    deletedAt: z.string(),
+    activeVersion: z.number().int().nullable().describe('the version that was active and stopped answering'),
+  })
+  .meta({ id: 'DeletedDataset' });
+
 export const Version = z
   .object({
     version: z.number().int(),
@@ -36,8 +45,9 @@ export const Version = z
     contentHash: z.string().nullable(),
     progress: z.object({ stage: z.string(), percent: z.number().int() }).nullable().describe('while building: the stage and its percent'),
     error: z.string().nullable().describe('why the last build attempt failed'),
-    layout: z.enum(['grid', 'kd', 'veiled']).nullable(),
+    layout: z.enum(['grid', 'adaptive', 'veiled']).nullable().describe('the layout built (the manifest tags adaptive as "kd")'),
     layoutReason: z.string().nullable().describe('why the build chose its layout: its cost per query and what became of the others weighed'),
+    requestedLayout: z.enum(['auto', 'grid', 'adaptive', 'veiled']).nullable().describe('the layout the last build request asked for (auto: the build chose)'),
     maxK: z.number().int().nullable().describe('k nearest the built matrix serves'),
     matrix: z.object({ rows: z.number().int(), columns: z.number().int(), ones: z.number().int(), products: z.number().int() }).nullable(),
     buildAttempts: z.number().int(),
@@ -79,10 +89,13 @@ export const Statement = z
         unitPriceMicros: micros,
         pricedPer: z.number().int(),
         amountMicros: micros,
+        amount: z.string().describe('amountMicros rounded half up to the minor unit (ISO 4217), as text'),
       }),
     ),
     totalMicros: micros,
     total: z.string().describe('the total in currency units, as text'),
+    currencyDecimals: z.number().int().describe('decimals of the minor unit (ISO 4217): 2 for EUR, 0 for JPY'),
+    amountDue: z.string().describe('the sum of the lines\' rounded amounts, in the minor unit'),
     days: z.array(z.object({ day: z.string() }).passthrough()),
     final: z.boolean().describe('false while the month is still running'),
   })

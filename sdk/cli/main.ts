@@ -4,6 +4,7 @@ import { InputError, type InputIssue } from '../../core/errors/input-error.ts';
 import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
 import { datasetHints } from './dataset-suggestion.ts';
+import { DATASET_HELP, datasetCommand } from './commands/dataset-lifecycle.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
 import { OPERATOR_HELP, operatorCommand } from './commands/operator.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
@@ -22,6 +23,8 @@ ${PLAN_HELP}
 
 ${VERSIONS_HELP}
 
+${DATASET_HELP}
+
 ${USAGE_HELP}
 
 ${OPERATOR_HELP}
@@ -35,6 +38,7 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   versions: versionsCommand,
   publish: publishCommand,
   rollback: rollbackCommand,
+  dataset: datasetCommand,
   usage: usageCommand,
   operator: operatorCommand,
 };

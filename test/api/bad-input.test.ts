@@ -118,7 +118,7 @@ describe('bad input gets a clear 4xx JSON error and changes nothing stored', () 
     const forThree = await adminRequest(t, 'POST', `/v1/admin/datasets/ri-zips/versions/${version}/build?maxK=3`);
     expect(forThree.status).toBe(202);
     expect((await waitForVersion(t, 'ri-zips', version)).maxK).toBe(3);
-    for (const [layout, kind] of [['grid', 'grid'], ['adaptive', 'kd']] as const) {
+    for (const [layout, kind] of [['grid', 'grid'], ['adaptive', 'adaptive']] as const) {
       const next = await adminRequest(t, 'POST', '/v1/admin/datasets/ri-zips/versions', rhodeIslandZipCsv().csv, 'text/csv');
       const n = ((await next.json()) as { version: number }).version;
       const built = await buildAndWait(t, 'ri-zips', n, layout);

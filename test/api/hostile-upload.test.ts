@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { readCsv } from '../../core/geo/csv.ts';
-import { statementCsv, type Statement } from '../../api/billing/statement.ts';
+import type { Statement } from '../../api/billing/statement.ts';
+import { statementCsv } from '../../api/billing/statement-csv.ts';
 import { adminRequest, createTestTenant, storedState, type TestTenant } from './tenant-fixture.ts';
 
 // Invented kiosks of the invented Fenwick Isles.
@@ -73,13 +74,14 @@ describe('statementCsv neutralises formula text (OWASP "CSV Injection", from mem
       tenant: '=HYPERLINK("http://attacker.invalid")',
       month: '2026-11',
       currency: '@EUR',
-      lines: [{ item: 'queries', quantity: 3, unit: 'query', unitPriceMicros: 100, pricedPer: 1, amountMicros: 300 }],
+      lines: [{ item: 'queries', quantity: 3, unit: 'query', unitPriceMicros: 100, pricedPer: 1, amountMicros: 300, amount: '0.00' }],
       totalMicros: -300,
+      amountDue: '-0.01',
       days: [],
     } as unknown as Statement;
     // RFC 4180: read back by the project's RFC 4180 reader, cell by cell.
     const records = readCsv(statementCsv(statement)).records;
-    expect(records[1]).toEqual([`'=HYPERLINK("http://attacker.invalid")`, '2026-11', "'@EUR", 'queries', '3', 'query', '100', '1', '300']);
-    expect(records[2]![8]).toBe('-300');
+    expect(records[1]).toEqual([`'=HYPERLINK("http://attacker.invalid")`, '2026-11', "'@EUR", 'queries', '3', 'query', '0.0001', '1', '0.00', '300']);
+    expect(records[2]!.slice(8)).toEqual(['-0.01', '-300']);
   });
 });

@@ -38,7 +38,7 @@ describe('one decision for the layout: refused before queueing when a named layo
 
   it('builds the same table with layout auto, choosing a layout that fits and saying why', async () => {
     const built = await buildAndWait(t, 'one-town', version);
-    expect(built.layout).toBe('kd');
+    expect(built.layout).toBe('adaptive');
     expect(built.layoutReason).toMatch(/^adaptive, lists <= \d+ \([0-9.]+ s per query by the cost model\) of \d+ layouts weighed: .*\d+ were too large to answer from/);
   });
 });

@@ -90,6 +90,10 @@ describe('metering: exact under concurrency, refusals counted apart', () => {
       expect(bad.status).toBe(400);
       expect(await bad.json()).toMatchObject({ error: { code: 'invalid_month', field: 'month' } });
     }
+    // A misspelt dataset is refused by name, not reported as a month of zeros.
+    const misspelt = await adminRequest(t, 'GET', '/v1/admin/usage?dataset=meter-tinny');
+    expect(misspelt.status).toBe(404);
+    expect(await misspelt.json()).toMatchObject({ error: { code: 'dataset_unknown', field: 'dataset' } });
     const other = await adminRequest(t, 'GET', '/v1/admin/usage?tenant=someone-else');
     expect(other.status).toBe(403);
     expect(await other.json()).toMatchObject({ error: { field: 'tenant' } });

@@ -13,9 +13,10 @@ interface StatementBody {
   currency: string;
   tariff: { fromMonth: string };
   usage: { queries: number; rejected: number; bytesIn: number; bytesOut: number; multiplications: number };
-  lines: Array<{ item: string; quantity: number; unitPriceMicros: number; pricedPer: number; amountMicros: number }>;
+  lines: Array<{ item: string; quantity: number; unitPriceMicros: number; pricedPer: number; amountMicros: number; amount: string }>;
   totalMicros: number;
   total: string;
+  amountDue: string;
   days: Array<{ day: string; queries: number }>;
 }
 
@@ -90,14 +91,28 @@ describe('monthly statements: tariffs applied to the daily counts', () => {
     const text = await res.text();
     expect(text.endsWith('\r\n')).toBe(true);
     const [header, ...rest] = text.split('\r\n');
-    expect(header).toBe('tenant,month,currency,item,quantity,unit,unit_price_micros,priced_per,amount_micros');
+    expect(header).toBe('tenant,month,currency,item,quantity,unit,unit_price,priced_per,amount,amount_micros');
+    // One table: the lines and the total row, nothing after them (the daily counts are their own file).
+    expect(rest).toHaveLength(6);
+    expect(rest[5]).toBe('');
     const lines = rest.slice(0, 4).map((l) => l.split(','));
     const total = rest[4]!.split(',');
     expect(lines.map((l) => l[3])).toEqual(['monthly_base', 'queries', 'transfer', 'multiplications']);
     expect(total[3]).toBe('total');
-    expect(lines.reduce((a, l) => a + Number(l[8]), 0)).toBe(Number(total[8]));
+    expect(lines.reduce((a, l) => a + Number(l[9]), 0)).toBe(Number(total[9]));
+    // EUR has 2 decimals (ISO 4217): amounts in cents, and the cents add up to the total's.
+    for (const l of [...lines, total]) expect(l[8]).toMatch(/^\d+\.\d\d$/);
+    expect(lines.reduce((a, l) => a + Math.round(Number(l[8]) * 100), 0)).toBe(Math.round(Number(total[8]) * 100));
     const json = (await (await adminRequest(t, 'GET', `/v1/admin/statements/${month}`)).json()) as StatementBody;
-    expect(Number(total[8])).toBe(json.totalMicros);
+    expect(Number(total[9])).toBe(json.totalMicros);
+    const days = await adminRequest(t, 'GET', `/v1/admin/statements/${month}?format=csv&table=days`);
+    expect(days.headers.get('content-disposition')).toMatch(/-days\.csv"$/);
+    const dayRows = (await days.text()).split('\r\n');
+    expect(dayRows[0]).toBe('tenant,month,day,queries,rejected,bytes_in,bytes_out,multiplications');
+    expect(dayRows.slice(1, -1).reduce((a, l) => a + Number(l.split(',')[3]), 0)).toBe(json.usage.queries);
+    const wrong = await adminRequest(t, 'GET', `/v1/admin/statements/${month}?format=csv&table=both`);
+    expect(wrong.status).toBe(400);
+    expect(((await wrong.json()) as { error: { field: string } }).error.field).toBe('table');
   });
 
   it('prices a past month with the tariff in force then, from its daily rows', async () => {
@@ -120,6 +135,9 @@ describe('monthly statements: tariffs applied to the daily counts', () => {
     expect(s.lines.map((l) => l.amountMicros)).toEqual([0, 7_000_000, 418_200, 305_000]);
     expect(s.totalMicros).toBe(7_723_200);
     expect(s.total).toBe('7.723200 EUR');
+    // In cents (EUR: 2 decimals, ISO 4217), each line half up: 0.4182 -> 0.42, 0.305 -> 0.31; due is their sum.
+    expect(s.lines.map((l) => l.amount)).toEqual(['0.00', '7.00', '0.42', '0.31']);
+    expect(s.amountDue).toBe('7.73');
     expect(s.days.map((d) => d.day)).toEqual(['2025-10-01', '2025-10-31']);
   });
 

@@ -5,6 +5,7 @@ import { join } from 'node:path';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { LAYOUT_FLAG } from '../../core/build/layout-disclosure.ts';
 import { greatCircleMeters } from '../../core/geo/distance.ts';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { seededRandom } from '../../scripts/demo/seeded-random.ts';
@@ -116,7 +117,8 @@ describe.each([
   it('`nearveil plan` on the same file chooses the layout and matrix the server built', () => {
     const run = spawnSync('npx', ['nearveil', 'plan', file(), '--json'], { cwd: ROOT, env: product.env, encoding: 'utf8', timeout: 300_000 });
     expect(run.status, run.stderr).toBe(0);
-    const plan = JSON.parse(run.stdout) as { layout: { kind: string }; matrix: { rows: number; columns: number } };
-    expect({ layout: plan.layout.kind, rows: plan.matrix.rows, columns: plan.matrix.columns }).toEqual(built);
+    const plan = JSON.parse(run.stdout) as { layout: { kind: keyof typeof LAYOUT_FLAG }; matrix: { rows: number; columns: number } };
+    // The manifest tags the adaptive layout "kd"; the API names layouts as the build's --layout does.
+    expect({ layout: LAYOUT_FLAG[plan.layout.kind], rows: plan.matrix.rows, columns: plan.matrix.columns }).toEqual(built);
   });
 });

@@ -48,10 +48,14 @@ export async function importCommand(args: string[], print: (line: string) => voi
   const progress = progressLine(progressStream, { plain: values.json });
   let built: Awaited<ReturnType<typeof admin.build>>;
   let uploaded: Awaited<ReturnType<typeof admin.uploadSiteTable>>;
+  const created = await admin.ensureDataset(dataset, values.name);
   try {
-    await admin.ensureDataset(dataset, values.name);
     progress.update(`uploading ${(csv.length / 2 ** 20).toFixed(1)} MiB`, 0);
-    uploaded = await admin.uploadSiteTable(dataset, csv);
+    uploaded = await admin.uploadSiteTable(dataset, csv).catch(async (err: unknown) => {
+      // A refused upload leaves no empty dataset behind when this import made it (it has no version yet).
+      if (created) await admin.deleteDataset(dataset).catch(() => undefined);
+      throw err;
+    });
     progress.update('queued', 0);
     built = await admin.build(dataset, uploaded.version, layoutOption(values.layout), maxK, {
       pollMs: 300,
