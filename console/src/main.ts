@@ -1,4 +1,4 @@
-import { resumeSession, signInWithToken, signOut, type Signed } from './api/client.ts';
+import { canAdminister, resumeSession, signInWithToken, signOut, type Signed } from './api/client.ts';
 import { nearveilAdmin } from './api/nearveil.ts';
 import { costScreen } from './cost/cost-screen.ts';
 import { keysScreen } from './keys/keys-screen.ts';
@@ -38,12 +38,25 @@ function signOutButton(signed: Signed): HTMLButtonElement {
   return h('button', { type: 'button', onclick: () => void leave() }, 'Sign out');
 }
 
+/** "Password…": every signed-in person changes their own password (an admin token has none). */
+function passwordButton(dialog: { open(): void }): HTMLButtonElement {
+  return h('button', { type: 'button', onclick: () => dialog.open() }, 'Password…');
+}
+
 /** The operator belongs to no tenant: its console is the tenants, their tariffs and statements. */
 function showOperator(signed: Signed): void {
+  const api = nearveilAdmin(signed.client);
+  const password = passwordDialog(api);
   root.replaceChildren(
-    h('header', { class: 'top' }, h('span', { class: 'brand' }, 'nearveil console'), h('span', { class: 'who' }, `${signed.label} · operator `, signOutButton(signed))),
+    h(
+      'header',
+      { class: 'top' },
+      h('span', { class: 'brand' }, 'nearveil console'),
+      h('span', { class: 'who' }, `${signed.label} · operator `, passwordButton(password), ' ', signOutButton(signed)),
+    ),
     cautionsBar(),
-    h('main', { id: 'main' }, h('h1', { class: 'sr-only' }, 'Tenants and tariffs'), tenantsScreen(nearveilAdmin(signed.client))),
+    h('main', { id: 'main' }, h('h1', { class: 'sr-only' }, 'Tenants and tariffs'), tenantsScreen(api)),
+    password.element,
   );
 }
 
@@ -76,14 +89,16 @@ function showConsole(signed: Signed): void {
   function go(name: ScreenName): void {
     for (const [n, button] of navButtons) button.setAttribute('aria-current', n === name ? 'page' : 'false');
     const screen = screens.get(name)!;
-    main.replaceChildren(h('h1', { class: 'sr-only' }, TITLES[name]), screen.element);
+    main.replaceChildren(h('h1', { class: 'sr-only' }, titles[name]), screen.element);
     location.hash = name;
     screen.show();
   }
 
   const nav = h('nav', { 'aria-label': 'Console sections' });
+  // Editors have no keys to manage: their tab is the usage it shows them.
+  const titles: Record<ScreenName, string> = canAdminister(signed) ? TITLES : { ...TITLES, keys: 'Usage' };
   for (const name of Object.keys(TITLES) as ScreenName[]) {
-    const button = h('button', { type: 'button', onclick: () => go(name) }, TITLES[name]) as HTMLButtonElement;
+    const button = h('button', { type: 'button', onclick: () => go(name) }, titles[name]) as HTMLButtonElement;
     navButtons.set(name, button);
     nav.append(button);
   }
@@ -92,7 +107,7 @@ function showConsole(signed: Signed): void {
     'span',
     { class: 'who' },
     `${signed.label}${signed.user?.tenant ? ` · ${signed.user.tenant.name}` : ''}${signed.user ? ` · ${signed.user.role.replace('_', ' ')}` : ''} `,
-    signed.user ? h('button', { type: 'button', onclick: () => password.open() }, 'Password…') : null,
+    signed.user ? passwordButton(password) : null,
     ' ',
     signOutButton(signed),
   );

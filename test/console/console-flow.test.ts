@@ -82,7 +82,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.goto(`${BASE}/`);
     expect(page.url()).toBe(`${BASE}/console/`);
     await page.getByRole('heading', { name: 'Sign in' }).waitFor();
-    for (const caution of ['not nearest by road or travel time', 'out of date', 'emergency number', 'not the network address or the timing']) {
+    for (const caution of ['not always the nearest by road or travel time', 'out of date', 'emergency number', 'not the network address or the timing']) {
       await expect.poll(() => page.locator('.cautions').textContent(), { timeout: 90_000 }).toContain(caution);
     }
     expect(await unlabelledControls()).toEqual([]);
@@ -112,8 +112,9 @@ describe('console: the data admin flow in headless Chromium', () => {
   });
 
   it('creates a dataset, pastes 50 tab-separated rows and marks the invalid cell with its message', async () => {
-    page.once('dialog', (d) => void d.accept(DATASET));
     await page.getByRole('button', { name: 'New dataset…' }).click();
+    await page.getByRole('dialog', { name: 'New dataset' }).getByLabel('Short name of the dataset').fill(DATASET);
+    await page.getByRole('dialog', { name: 'New dataset' }).getByRole('button', { name: 'Create dataset' }).click();
     await expect.poll(() => status().textContent(), { timeout: 90_000 }).toMatch(/Created dataset fenwick-clinics/);
     await page.evaluate((text) => navigator.clipboard.writeText(text), fenwickTsv(6, '95.5'));
     await page.getByRole('grid').focus();
@@ -122,7 +123,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     const invalid = page.locator('.grid-cell[aria-invalid="true"]');
     await invalid.first().waitFor();
     await expect.poll(() => invalid.count(), { timeout: 90_000 }).toBe(1);
-    await expect.poll(() => invalid.first().getAttribute('title'), { timeout: 90_000 }).toBe('lat must be between -90 and 90, got 95.5');
+    await expect.poll(() => invalid.first().getAttribute('title'), { timeout: 90_000 }).toBe('lat must be between -90 and 90, got 95.5 (lat and lon may be swapped: this lon would be a valid lat)');
     await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('1 problem to fix before saving');
     await expect.poll(() => page.getByRole('button', { name: 'Save as draft version' }).isDisabled(), { timeout: 90_000 }).toBe(true);
     expect(await unlabelledControls()).toEqual([]);
@@ -160,18 +161,18 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.keyboard.press('Shift+ArrowDown');
     await page.keyboard.press('Control+D');
     // Rows 3 to 5 selected in the phone column: rows 4 and 5 take row 3's number.
-    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0102');
-    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0102');
+    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+999 4021 0102');
+    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+999 4021 0102');
     await page.keyboard.press('Control+Z');
-    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0103');
-    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+1 406 555 0104');
+    await expect.poll(() => page.locator('#cell-3-4').textContent(), { timeout: 90_000 }).toBe('+999 4021 0103');
+    await expect.poll(() => page.locator('#cell-4-4').textContent(), { timeout: 90_000 }).toBe('+999 4021 0104');
     await shot('04-keyboard');
   });
 
   it('fixes the error by jumping to it and typing, then saves a draft version', async () => {
     await page.getByRole('button', { name: /Row 7, lat: lat must be between/ }).click();
     await expect.poll(() => page.locator('#cell-message').textContent(), { timeout: 90_000 }).toContain('Row 7, lat: lat must be between -90 and 90, got 95.5');
-    await page.keyboard.type('45.31');
+    await page.keyboard.type('-76.31');
     await page.keyboard.press('Enter');
     await expect.poll(() => page.locator('.grid-cell[aria-invalid="true"]').count(), { timeout: 90_000 }).toBe(0);
     await expect.poll(() => page.locator('#problems-title').textContent(), { timeout: 90_000 }).toBe('No problems');
@@ -187,20 +188,20 @@ describe('console: the data admin flow in headless Chromium', () => {
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Built fenwick-clinics v1/);
     await shot('07-built');
     await page.getByRole('button', { name: 'Publish v1' }).click();
-    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v1 of fenwick-clinics is live/);
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v1 of fenwick-clinics is active/);
     await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
     // The version names its author: the admin who saved it from the table.
     await expect.poll(() => page.locator('tr[data-version="1"] .author').textContent(), { timeout: 90_000 }).toBe(adminEmail);
     expect(await unlabelledControls()).toEqual([]);
     await shot('08-published');
 
-    const sites = fenwickSites().map((s, i) => (i === 6 ? { ...s, lat: 45.31 } : s));
+    const sites = fenwickSites().map((s, i) => (i === 6 ? { ...s, lat: -76.31 } : s));
     const client = connect({ endpoint: BASE, apiKey });
     // geokdbush (npm) as the outside reference for which site is nearest.
     const index = new KDBush(sites.length);
     for (const s of sites) index.add(s.lon, s.lat);
     index.finish();
-    for (const [lat, lon] of [[45.35, -111.9], [45.55, -111.6], [44.9, -112.5]] as const) {
+    for (const [lat, lon] of [[-76.2, 59.0], [-76.0, 60.1], [-76.6, 58.0]] as const) {
       const answer = await client.nearest(DATASET, { lat, lon });
       expect(answer.version).toBe(1);
       const reference = sites[around(index, lon, lat, 1)[0]!]!;
@@ -228,8 +229,8 @@ describe('console: the data admin flow in headless Chromium', () => {
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Built fenwick-clinics v2/);
     await expect.poll(() => page.locator('tr[data-version="2"] .matrix').textContent(), { timeout: 90_000 }).toMatch(/^[\d,]+ × [\d,]+ · (adaptive|grid) · k = 2$/);
     await page.getByRole('button', { name: 'Publish v2' }).click();
-    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v2 of fenwick-clinics is live \(was v1\)/);
-    const two = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 }, { k: 2 });
+    await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/v2 of fenwick-clinics is active \(was v1\)/);
+    const two = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: -76.2, lon: 59.0 }, { k: 2 });
     expect(two.version).toBe(2);
     expect(two.results).toHaveLength(2);
 
@@ -243,14 +244,14 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.locator('#rollback-to').selectOption('1');
     await page.getByRole('button', { name: 'Roll back…' }).click();
     const dialog = page.getByRole('dialog');
-    await expect.poll(() => dialog.textContent(), { timeout: 90_000 }).toContain('Roll back fenwick-clinics from v2 (live now) to v1?');
+    await expect.poll(() => dialog.textContent(), { timeout: 90_000 }).toContain('Roll back fenwick-clinics from v2 (active now) to v1?');
     await shot('10-rollback-confirm');
     await dialog.getByRole('button', { name: 'Roll back to v1' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toMatch(/Rolled back fenwick-clinics from v2 to v1; v2 still answers apps in flight for \d+ s/);
     await expect.poll(() => page.locator('tr[data-version="1"] .state').textContent(), { timeout: 90_000 }).toBe('active');
     await expect.poll(() => page.locator('tr[data-version="2"]').textContent(), { timeout: 90_000 }).toMatch(/ready \(answers apps in flight until .+ UTC\)/);
     await shot('11-rolled-back');
-    const answer = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: 45.35, lon: -111.9 });
+    const answer = await connect({ endpoint: BASE, apiKey }).nearest(DATASET, { lat: -76.2, lon: 59.0 });
     expect(answer.version).toBe(1);
   });
 
@@ -280,7 +281,7 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.keyboard.press('+');
     await page.keyboard.press('Enter'); // inspect the centre
     const point = (await page.locator('#map-info dd').first().textContent())!.split(',').map(Number) as [number, number];
-    const sites = fenwickSites().map((s, i) => (i === 6 ? { ...s, lat: 45.31 } : s));
+    const sites = fenwickSites().map((s, i) => (i === 6 ? { ...s, lat: -76.31 } : s));
     const brute = sites.reduce((best, s) => (greatCircleMeters(point[0], point[1], s.lat, s.lon) < greatCircleMeters(point[0], point[1], best.lat, best.lon) ? s : best));
     await expect.poll(() => page.locator('#map-nearest').textContent(), { timeout: 90_000 }).toContain(brute.id);
     await expect.poll(() => page.locator('#map-info').textContent(), { timeout: 90_000 }).toContain('equals a search of every site');
@@ -311,14 +312,14 @@ describe('console: the data admin flow in headless Chromium', () => {
     await page.getByRole('button', { name: 'Create key' }).click();
     const secret = (await page.locator('#new-key-secret').textContent())!;
     expect(secret).toMatch(/^nvk_/);
-    const fresh = await connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: 45.4, lon: -111.8 });
+    const fresh = await connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: -76.1, lon: 59.3 });
     expect(fresh.results).toHaveLength(1);
     await page.getByRole('button', { name: 'I have stored it' }).click();
     await expect.poll(() => page.locator('#new-key-secret').count(), { timeout: 90_000 }).toBe(0);
-    page.once('dialog', (d) => void d.accept());
     await page.getByRole('button', { name: 'Revoke fenwick finder app' }).click();
+    await page.getByRole('dialog', { name: 'Revoke the key “fenwick finder app”?' }).getByRole('button', { name: 'Revoke key' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('Revoked fenwick finder app');
-    await expect(connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: 45.4, lon: -111.8 })).rejects.toThrow(/revoked/);
+    await expect(connect({ endpoint: BASE, apiKey: secret }).nearest(DATASET, { lat: -76.1, lon: 59.3 })).rejects.toThrow(/revoked/);
     const adminToken = JSON.parse(readFileSync(join(scratch, 'home', 'dev-credentials.json'), 'utf8')).adminToken as string;
     const month = new Date().toISOString().slice(0, 7);
     const usage = (await (await fetch(`${BASE}/v1/admin/usage?month=${month}`, { headers: { authorization: `Bearer ${adminToken}` } })).json()) as { totals: { queries: number } };
@@ -330,9 +331,12 @@ describe('console: the data admin flow in headless Chromium', () => {
     const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: 'Download statement (CSV)' }).click()]);
     expect(download.suggestedFilename()).toBe(`nearveil-statement-${month}.csv`);
     const csv = readFileSync((await download.path())!, 'utf8').split('\r\n');
-    expect(csv[0]).toBe('tenant,month,currency,item,quantity,unit,unit_price_micros,priced_per,amount_micros');
-    expect(csv).toContain(`demo,${month},EUR,queries,${usage.totals.queries},query,1500,1,${usage.totals.queries * 1500}`);
-    expect(csv.find((l) => l.startsWith(`demo,${month},EUR,monthly_base,`))).toBe(`demo,${month},EUR,monthly_base,1,month,49990000,1,49990000`);
+    expect(csv[0]).toBe('tenant,month,currency,item,quantity,unit,unit_price,priced_per,amount,amount_micros');
+    // Amounts in cents, half up (EUR: 2 decimals, ISO 4217), micro-units in their own column.
+    const queryMicros = usage.totals.queries * 1500;
+    const queryCents = Math.floor((queryMicros + 5_000) / 10_000);
+    expect(csv).toContain(`demo,${month},EUR,queries,${usage.totals.queries},query,0.0015,1,${Math.floor(queryCents / 100)}.${String(queryCents % 100).padStart(2, '0')},${queryMicros}`);
+    expect(csv.find((l) => l.startsWith(`demo,${month},EUR,monthly_base,`))).toBe(`demo,${month},EUR,monthly_base,1,month,49.99,1,49.99,49990000`);
     expect(await unlabelledControls()).toEqual([]);
     await shot('14-keys-usage');
   });
@@ -348,15 +352,15 @@ describe('console: the data admin flow in headless Chromium', () => {
     expect(firstPassword.length).toBeGreaterThanOrEqual(12);
     await expect.poll(() => page.locator('tr[data-user="wren.editor@fenwick.example"] .role').textContent(), { timeout: 90_000 }).toBe('editor');
     // Say Wren lost it: the admin gives a new one, shown once, and the first stops working.
-    page.once('dialog', (d) => void d.accept());
     await page.getByRole('button', { name: 'New password for wren.editor@fenwick.example' }).click();
+    await page.getByRole('dialog', { name: 'New password for wren.editor@fenwick.example?' }).getByRole('button', { name: 'Make a new password' }).click();
     await expect.poll(() => page.locator('.status.good').textContent(), { timeout: 90_000 }).toBe('wren.editor@fenwick.example has a new password');
     editorPassword = (await page.locator('#reset-user-password').textContent())!;
     expect(editorPassword).toMatch(/^[A-Za-z0-9_-]{24}$/);
     const withFirst = await fetch(`${BASE}/v1/session`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ email: 'wren.editor@fenwick.example', password: firstPassword }) });
     expect(withFirst.status).toBe(401);
     const activity = page.locator('#audit-table');
-    for (const line of [`version.rollback`, `dataset ${DATASET} v1`, 'user.create', 'user.update', 'key.revoke']) {
+    for (const line of ['Rolled back to a version', `dataset ${DATASET} v1`, 'Added a person as editor', 'Gave a new password', 'Revoked an API key']) {
       await expect.poll(() => activity.textContent(), { timeout: 90_000 }).toContain(line);
     }
     expect(await unlabelledControls()).toEqual([]);
@@ -444,8 +448,8 @@ describe('console: the data admin flow in headless Chromium', () => {
     const month = new Date().toISOString().slice(0, 7);
     const [download] = await Promise.all([page.waitForEvent('download'), page.getByRole('button', { name: `orrin-shelters ${month} (CSV)` }).click()]);
     const csv = readFileSync((await download.path())!, 'utf8');
-    expect(csv).toContain(`orrin-shelters,${month},EUR,monthly_base,1,month,10000000,1,10000000`);
-    expect(csv).toContain(`orrin-shelters,${month},EUR,total,,,,,10000000`);
+    expect(csv).toContain(`orrin-shelters,${month},EUR,monthly_base,1,month,10,1,10.00,10000000`);
+    expect(csv).toContain(`orrin-shelters,${month},EUR,total,,,,,10.00,10000000`);
     expect(await unlabelledControls()).toEqual([]);
     await shot('18-operator');
     expect(pageErrors).toEqual([]);

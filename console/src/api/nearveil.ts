@@ -3,8 +3,18 @@ import type { ApiClient } from './client.ts';
 
 /** The admin routes the console uses, typed. */
 export interface DatasetInfo {
+  /** Fixed for good: apps use it in their URLs. */
   slug: string;
+  /** What people read; a rename changes only this. */
   name: string;
+  activeVersion: number | null;
+}
+
+export interface DeletedDataset {
+  dataset: string;
+  name: string;
+  deletedAt: string;
+  /** The version that was active and stopped answering. */
   activeVersion: number | null;
 }
 
@@ -22,8 +32,10 @@ export interface VersionInfo {
   progress: { stage: string; percent: number } | null;
   /** Why the build chose its layout (its cost per query, what became of the others weighed). */
   layoutReason: string | null;
-  /** Built versions: the layout kind, the k nearest served and the matrix shape. */
-  layout: 'grid' | 'kd' | 'veiled' | null;
+  /** Built versions: the layout built, the k nearest served and the matrix shape. */
+  layout: 'grid' | 'adaptive' | 'veiled' | null;
+  /** The layout the last build asked for ('auto': the build chose); null before any build. */
+  requestedLayout: BuildOptions['layout'] | null;
   maxK: number | null;
   matrix: { rows: number; columns: number; ones: number; products: number } | null;
   /** A replaced version still answers until then. */
@@ -111,6 +123,10 @@ export function nearveilAdmin(client: ApiClient) {
   return {
     datasets: async () => (await client.json<{ datasets: DatasetInfo[] }>('GET', '/v1/admin/datasets')).datasets,
     createDataset: (slug: string, name?: string) => client.json<DatasetInfo>('POST', '/v1/admin/datasets', { slug, ...(name ? { name } : {}) }),
+    /** Changes the name people read; the slug stays. */
+    renameDataset: (slug: string, name: string) => client.json<DatasetInfo>('PATCH', ds(slug), { name }),
+    /** Tenant admins; one with an active version needs `confirm` = its slug. */
+    deleteDataset: (slug: string, confirm?: string) => client.json<DeletedDataset>('DELETE', ds(slug), confirm === undefined ? {} : { confirm }),
     versions: (slug: string) => client.json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `${ds(slug)}/versions`),
     version: (slug: string, version: number) => client.json<VersionInfo>('GET', `${ds(slug)}/versions/${version}`),
     upload: async (slug: string, csv: string) =>
@@ -144,10 +160,11 @@ export function nearveilAdmin(client: ApiClient) {
     tariffs: (tenant: string) => client.json<{ currency: string; tariffs: TariffRow[] }>('GET', `/v1/operator/tenants/${encodeURIComponent(tenant)}/tariff`),
     setTariff: (tenant: string, prices: TariffPrices & { fromMonth?: string }) =>
       client.json<{ currency: string; tariff: TariffRow }>('PUT', `/v1/operator/tenants/${encodeURIComponent(tenant)}/tariff`, prices),
-    tenantStatement: (tenant: string, month: string) =>
-      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}?format=csv&tenant=${encodeURIComponent(tenant)}`),
-    statement: (month: string, format: 'json' | 'csv') =>
-      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}${format === 'csv' ? '?format=csv' : ''}`),
+    /** A statement CSV holds one table: the priced lines, or the daily counts they come from. */
+    tenantStatement: (tenant: string, month: string, table: 'lines' | 'days' = 'lines') =>
+      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}?format=csv&table=${table}&tenant=${encodeURIComponent(tenant)}`),
+    statement: (month: string, format: 'json' | 'csv', table: 'lines' | 'days' = 'lines') =>
+      client.request('GET', `/v1/admin/statements/${encodeURIComponent(month)}${format === 'csv' ? `?format=csv&table=${table}` : ''}`),
   };
 }
 

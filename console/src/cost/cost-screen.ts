@@ -26,7 +26,7 @@ export function costScreen(ctx: ConsoleContext): Screen {
     try {
       const { versions, activeVersion } = await ctx.api.versions(slug);
       const built = versions.filter((v) => v.state === 'ready' || v.state === 'active');
-      versionSelect.replaceChildren(...built.map((v) => h('option', { value: String(v.version) }, `v${v.version}${v.version === activeVersion ? ' (live)' : ''}`)));
+      versionSelect.replaceChildren(...built.map((v) => h('option', { value: String(v.version) }, `v${v.version}${v.version === activeVersion ? ' (active)' : ''}`)));
       if (built.length === 0) {
         out.replaceChildren();
         return say(`${slug} has no built version yet`);
@@ -69,8 +69,10 @@ export function costScreen(ctx: ConsoleContext): Screen {
           'Price per query at your tariff',
           `${part(price.total)} (query ${part(price.query)} + transfer ${part(price.transfer)} + server work ${part(price.work)}; ${cost.bytes[0]!.modulusBits}-bit key)`,
         ]);
-        rows.push(['Price of reading the whole matrix', `${formatPrice(price.total * cost.queriesForWholeMatrix, tariff.currency, 2)} (${fmt.format(cost.queriesForWholeMatrix)} queries)`]);
-        rows.push(['Monthly base', formatPrice(tariff.monthlyBaseMicros, tariff.currency, 2)]);
+        // Amounts (not prices) in the currency's minor unit: 2 decimals for EUR, 0 for JPY (the browser's currency data).
+        const decimals = new Intl.NumberFormat('en', { style: 'currency', currency: tariff.currency }).resolvedOptions().maximumFractionDigits ?? 2;
+        rows.push(['Price of reading the whole matrix', `${formatPrice(price.total * cost.queriesForWholeMatrix, tariff.currency, decimals)} (${fmt.format(cost.queriesForWholeMatrix)} queries)`]);
+        rows.push(['Monthly base', formatPrice(tariff.monthlyBaseMicros, tariff.currency, decimals)]);
       }
       out.replaceChildren(
         h(

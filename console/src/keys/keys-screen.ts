@@ -1,17 +1,26 @@
+import { canAdminister } from '../api/client.ts';
 import type { KeyInfo } from '../api/nearveil.ts';
-import { currentMonth, formatPrice } from '../cost/tariff.ts';
+import { currentMonth } from '../cost/tariff.ts';
+import { confirmAction } from '../ui/ask-dialog.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { bytes, download, errorText, fmt, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
 import { drawUsageChart } from './usage-chart.ts';
 
-/** API keys (created shown once, revoked) and usage: daily chart, totals, monthly statement. */
+/**
+ * API keys (created shown once, revoked) and usage: daily chart, totals, monthly statement.
+ * Keys and statements are tenant admins' (api/auth/key-routes.ts, api/billing): editors see the
+ * usage and a plain note of whom to ask, not a form the server would refuse.
+ */
 export function keysScreen(ctx: ConsoleContext): Screen {
+  const admin = canAdminister(ctx.signed);
   const status = h('div', { class: 'status', role: 'status' });
   const say = (text: string, tone: 'plain' | 'good' | 'bad' = 'plain') => setStatus(status, text, tone);
   const label = h('input', { id: 'key-label', type: 'text', required: true, maxlength: 100, placeholder: 'e.g. clinic finder app' }) as HTMLInputElement;
   const scope = h('select', { id: 'key-datasets', multiple: true, size: 3 }) as HTMLSelectElement;
-  const quota = h('input', { id: 'key-quota', type: 'number', min: 1, step: 1, placeholder: 'no limit' }) as HTMLInputElement;
+  const quota = h('input', { id: 'key-quota', type: 'number', min: 1, step: 1, placeholder: 'empty: no limit' }) as HTMLInputElement;
   const secretBox = h('div', { id: 'key-secret', 'aria-live': 'polite' });
+  /** The key whose secret is on screen: revoking it takes the secret away too. */
+  let shownKeyId: string | null = null;
   const keysBody = h('tbody', {});
   const month = h('input', { id: 'usage-month', type: 'month', value: currentMonth() }) as HTMLInputElement;
   const usageDataset = h('select', { id: 'usage-dataset' }) as HTMLSelectElement;
@@ -29,18 +38,34 @@ export function keysScreen(ctx: ConsoleContext): Screen {
   month.addEventListener('change', () => void loadUsage());
   usageDataset.addEventListener('change', () => void loadUsage());
 
+  const keysPanel = admin
+    ? h(
+        'div',
+        { class: 'panel' },
+        h('h2', {}, 'API keys'),
+        form,
+        secretBox,
+        h('div', { class: 'table-scroll' }, plainTable('keys-table', ['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''], keysBody)),
+      )
+    : h(
+        'div',
+        { class: 'panel', id: 'keys-for-editors' },
+        h('h2', {}, 'API keys'),
+        h('p', {}, 'Apps use API keys to query your published datasets. Your tenant\'s admins create and revoke them, and download the monthly statements.'),
+        h('p', {}, 'To get a key for an app, ask one of your admins. Here you can follow how much your datasets are used.'),
+      );
+  const statementButtons = admin
+    ? [
+        h('button', { type: 'button', onclick: () => void statement('csv', 'lines') }, 'Download statement (CSV)'),
+        h('button', { type: 'button', onclick: () => void statement('csv', 'days') }, 'Download daily usage (CSV)'),
+        h('button', { type: 'button', onclick: () => void statement('json', 'lines') }, 'Download statement (JSON)'),
+      ]
+    : [];
   const element = h(
     'section',
-    { 'aria-label': 'Keys and usage' },
+    { 'aria-label': admin ? 'Keys and usage' : 'Usage' },
     status,
-    h(
-      'div',
-      { class: 'panel' },
-      h('h2', {}, 'API keys'),
-      form,
-      secretBox,
-      plainTable('keys-table', ['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''], keysBody),
-    ),
+    keysPanel,
     h(
       'div',
       { class: 'panel' },
@@ -51,9 +76,9 @@ export function keysScreen(ctx: ConsoleContext): Screen {
         h('label', { for: 'usage-month' }, 'Month ', month),
         h('label', { for: 'usage-dataset' }, 'Dataset ', usageDataset),
         h('button', { type: 'button', onclick: () => void loadUsage() }, 'Refresh usage'),
-        h('button', { type: 'button', onclick: () => void statement('csv') }, 'Download statement (CSV)'),
-        h('button', { type: 'button', onclick: () => void statement('json') }, 'Download statement (JSON)'),
+        ...statementButtons,
       ),
+      admin ? h('p', { class: 'hint' }, 'A statement CSV holds one table: the priced lines, amounts in the currency\'s minor unit (cents for EUR) with exact micro-units beside them. The daily counts they come from are the other CSV; the JSON holds both.') : '',
       chart,
       h('div', { class: 'legend' }, h('span', { style: 'color:#1f5fbf' }, '■ answered'), h('span', { style: 'color:#b3261e' }, '■ rejected')),
       totals,
@@ -62,7 +87,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
 
   async function loadKeys(): Promise<void> {
     try {
-      const [keys, datasets] = await Promise.all([ctx.api.keys(), ctx.api.datasets()]);
+      const [keys, datasets] = await Promise.all([admin ? ctx.api.keys() : Promise.resolve([]), ctx.api.datasets()]);
       scope.replaceChildren(...datasets.map((d) => h('option', { value: d.slug }, d.slug)));
       const chosen = usageDataset.value;
       usageDataset.replaceChildren(h('option', { value: '' }, 'all datasets'), ...datasets.map((d) => h('option', { value: d.slug }, d.slug)));
@@ -94,12 +119,13 @@ export function keysScreen(ctx: ConsoleContext): Screen {
     try {
       const created = await ctx.api.createKey({ label: label.value, ...(datasets.length ? { datasets } : {}), ...(monthlyQuota ? { monthlyQuota } : {}) });
       const secret = created.secret;
+      shownKeyId = created.id;
       secretBox.replaceChildren(
         h('p', {}, `Key “${created.label}” created. Copy it now: it is shown only this once and stored only as a hash.`),
         h('p', { class: 'secret', id: 'new-key-secret' }, secret),
         h('button', { type: 'button', onclick: () => void navigator.clipboard?.writeText(secret).then(() => say('Copied')) }, 'Copy key'),
         ' ',
-        h('button', { type: 'button', onclick: () => secretBox.replaceChildren() }, 'I have stored it'),
+        h('button', { type: 'button', onclick: () => hideSecret() }, 'I have stored it'),
       );
       label.value = '';
       say(`Created key ${created.label}`, 'good');
@@ -109,10 +135,22 @@ export function keysScreen(ctx: ConsoleContext): Screen {
     }
   }
 
+  function hideSecret(): void {
+    secretBox.replaceChildren();
+    shownKeyId = null;
+  }
+
   async function revokeKey(k: KeyInfo): Promise<void> {
-    if (!window.confirm(`Revoke the key “${k.label}”? Apps using it stop getting answers at once.`)) return;
+    const sure = await confirmAction({
+      title: `Revoke the key “${k.label}”?`,
+      message: 'Apps using it stop getting answers at once. A revoked key cannot be used again; make a new one if an app still needs access.',
+      confirmLabel: 'Revoke key',
+      danger: true,
+    });
+    if (!sure) return;
     try {
       await ctx.api.revokeKey(k.id);
+      if (shownKeyId === k.id) hideSecret();
       say(`Revoked ${k.label}`, 'good');
       await loadKeys();
     } catch (err) {
@@ -133,7 +171,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
           h('dt', {}, 'Rejected'), h('dd', {}, fmt.format(t.rejected)),
           h('dt', {}, 'Bytes in / out'), h('dd', {}, `${bytes(t.bytesIn)} / ${bytes(t.bytesOut)}`),
           h('dt', {}, 'Server products'), h('dd', {}, fmt.format(t.multiplications)),
-          h('dt', {}, 'Statement, all datasets'), h('dd', { id: 'statement-total' }, await statementTotal(month.value)),
+          ...(admin ? [h('dt', {}, 'Statement, all datasets'), h('dd', { id: 'statement-total' }, await statementTotal(month.value))] : []),
         ),
       );
     } catch (err) {
@@ -145,18 +183,20 @@ export function keysScreen(ctx: ConsoleContext): Screen {
   /** The month's statement total at the tenant's tariff, or why there is none. */
   async function statementTotal(forMonth: string): Promise<string> {
     try {
-      const body = (await (await ctx.api.statement(forMonth, 'json')).json()) as { currency: string; totalMicros: number; final: boolean };
-      return `${formatPrice(body.totalMicros, body.currency, 2)}${body.final ? '' : ' so far (the month is still running)'}`;
+      // The amount due as the statement states it: lines rounded to the currency's minor unit, summed.
+      const body = (await (await ctx.api.statement(forMonth, 'json')).json()) as { currency: string; amountDue: string; final: boolean };
+      return `${body.currency} ${body.amountDue}${body.final ? '' : ' so far (the month is still running)'}`;
     } catch (err) {
       return errorText(err);
     }
   }
 
-  async function statement(format: 'csv' | 'json'): Promise<void> {
+  async function statement(format: 'csv' | 'json', table: 'lines' | 'days'): Promise<void> {
     try {
-      const response = await ctx.api.statement(month.value, format);
-      download(`nearveil-statement-${month.value}.${format}`, await response.text(), format === 'csv' ? 'text/csv' : 'application/json');
-      say(`Downloaded the ${month.value} statement`, 'good');
+      const response = await ctx.api.statement(month.value, format, table);
+      const name = `nearveil-${table === 'days' ? 'daily-usage' : 'statement'}-${month.value}.${format}`;
+      download(name, await response.text(), format === 'csv' ? 'text/csv' : 'application/json');
+      say(`Downloaded ${table === 'days' ? 'the daily usage of' : 'the statement of'} ${month.value}`, 'good');
     } catch (err) {
       say(`Statement: ${errorText(err)}`, 'bad');
     }

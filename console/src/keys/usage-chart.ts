@@ -27,7 +27,8 @@ export function drawUsageChart(canvas: HTMLCanvasElement, month: string, days: r
     g.moveTo(left, yy);
     g.lineTo(w - 8, yy);
     g.stroke();
-    g.fillText(String(Math.round(top * f)), 6, yy + 4);
+    // Whole queries only: with a top of 1, the half line would read "1" (rounded) above the real 1.
+    if (Number.isInteger(top * f)) g.fillText(String(top * f), 6, yy + 4);
   }
   for (let d = 1; d <= dayCount; d++) {
     const x = left + (d - 1) * barW + 1;

@@ -1,14 +1,18 @@
 import { nearestCandidates } from '../../../core/geo/candidates.ts';
+import { isFarFromCoverage, manifestCoverage } from '../../../core/geo/coverage.ts';
 import { greatCircleMeters } from '../../../core/geo/distance.ts';
 import { locateRegion } from '../../../core/geo/locate.ts';
 import type { Manifest } from '../../../core/geo/manifest.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
 import { errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { fitHeightToWindow } from '../ui/fit-height.ts';
+import type { Geography } from './geography.ts';
 import { heatColour, rampCss } from './heat-ramp.ts';
 import { chooseProjection, type Projection } from './projection.ts';
 import type { MapData } from './region-lists.ts';
 import { regionBoxes, type RegionBox } from './region-shapes.ts';
+import { veiledFacts } from './veiled-facts.ts';
 
 /** Points per box edge: enough for curved edges in the azimuthal projection. */
 const EDGE_STEPS = 12;
@@ -22,10 +26,14 @@ interface Picked {
   brute: { index: number; distanceMeters: number };
 }
 
+/** What the point panel says of every distance it shows. */
+export const DISTANCE_NOTE = 'Distances are straight-line (great-circle) distances on the Earth, not by road or path.';
+
 /**
- * The map: the admin's sites, the regions of the built layout and a heat of candidate-list
- * lengths, on a canvas. Drag or arrow keys pan, the wheel or +/- zoom; a click (or Enter at the
- * centre) shows that point's region, candidates and nearest site, all worked out in the browser.
+ * The map: land, borders and a graticule under the admin's sites, the regions of the built
+ * layout and a heat of candidate-list lengths, on a canvas; the pointer's coordinates below it.
+ * Drag or arrow keys pan, the wheel or +/- zoom; a click (or Enter at the centre) shows that
+ * point's region, candidates and nearest site, all worked out in the browser.
  */
 export function mapScreen(ctx: ConsoleContext): Screen {
   const status = h('div', { class: 'status', role: 'status' });
@@ -38,6 +46,8 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     box.addEventListener('change', () => draw());
     return { box, label: h('label', { for: id }, box, ' ' + text) };
   };
+  const showLand = layer('map-land', 'land and borders');
+  const showGraticule = layer('map-graticule', 'graticule');
   const showHeat = layer('map-heat', 'heat of list lengths');
   const showRegions = layer('map-regions', 'region outlines');
   const showSites = layer('map-sites', 'sites');
@@ -48,9 +58,13 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     'aria-label': 'Map of the sites and regions. Arrow keys pan, plus and minus zoom, Enter inspects the centre.',
   }) as HTMLCanvasElement;
   const legend = h('div', { class: 'legend' });
+  const mapNote = h('div', { class: 'legend', id: 'map-note' });
+  const pointer = h('div', { class: 'legend', id: 'map-pointer', 'aria-live': 'off' }, 'Pointer: move over the map to read its latitude and longitude');
   const facts = h('dl', { class: 'facts', id: 'map-facts' });
   const info = h('div', { id: 'map-info', 'aria-live': 'polite' }, h('p', { class: 'grid-note' }, 'Click the map to see the region, candidates and nearest site of a point.'));
 
+  // Room under the map for the pointer's coordinates and the legend.
+  const fitCanvas = fitHeightToWindow(canvas, 76, 280);
   let manifest: Manifest | null = null;
   let data: MapData | null = null;
   let projection: Projection | null = null;
@@ -59,6 +73,10 @@ export function mapScreen(ctx: ConsoleContext): Screen {
   let view = { scale: 1, x: 0, y: 0 }; // pixel = (projected - centre) * scale + canvas middle
   let picked: Picked | null = null;
   let worker: Worker | null = null;
+  let geography: Geography | null = null;
+  let projectionNote = '';
+  // The geography module (d3-geo, topojson-client, the outlines) is a chunk of its own: only the map needs it.
+  let geo: typeof import('./geography.ts') | null = null;
 
   const element = h(
     'section',
@@ -69,6 +87,8 @@ export function mapScreen(ctx: ConsoleContext): Screen {
       picker.element,
       h('label', { for: 'map-version' }, 'Version ', versionSelect),
       h('span', { class: 'sep' }),
+      showLand.label,
+      showGraticule.label,
       showHeat.label,
       showRegions.label,
       showSites.label,
@@ -78,7 +98,12 @@ export function mapScreen(ctx: ConsoleContext): Screen {
       h('button', { type: 'button', onclick: () => fit() }, 'Fit'),
     ),
     status,
-    h('div', { class: 'columns' }, h('div', { class: 'map-wrap' }, canvas, legend), h('div', { class: 'panel' }, h('h2', {}, 'This version'), facts, h('h2', { style: 'margin-top:10px' }, 'Point'), info)),
+    h(
+      'div',
+      { class: 'columns' },
+      h('div', { class: 'map-wrap' }, canvas, pointer, legend, mapNote),
+      h('div', { class: 'panel' }, h('h2', {}, 'This version'), facts, h('h2', { style: 'margin-top:10px' }, 'Point'), info),
+    ),
   );
 
   async function load(): Promise<void> {
@@ -87,7 +112,7 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     try {
       const { versions, activeVersion } = await ctx.api.versions(slug);
       const built = versions.filter((v) => ['ready', 'active'].includes(v.state));
-      versionSelect.replaceChildren(...built.map((v) => h('option', { value: String(v.version) }, `v${v.version}${v.version === activeVersion ? ' (live)' : ''}`)));
+      versionSelect.replaceChildren(...built.map((v) => h('option', { value: String(v.version) }, `v${v.version}${v.version === activeVersion ? ' (active)' : ''}`)));
       if (built.length === 0) {
         versionSelect.append(h('option', { value: '' }, 'no built version'));
         return say(`${slug} has no built version yet: build one under Versions`);
@@ -99,31 +124,47 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     }
   }
 
+  // Each load takes a number; one overtaken by a later choice stops at its next step, so an
+  // earlier, slower load can never end the later one's worker or overwrite what it shows.
+  let loadSeq = 0;
   async function loadVersion(): Promise<void> {
     const slug = ctx.dataset;
     const version = Number(versionSelect.value);
     if (!slug || !version) return;
+    const seq = ++loadSeq;
     say(`Loading v${version} and working out its candidate lists…`);
     picked = null;
     try {
-      const [m, csv] = await Promise.all([ctx.api.manifest(slug, version), ctx.api.table(slug, version)]);
+      const [m, csv] = await Promise.all([ctx.api.manifest(slug, version), ctx.api.table(slug, version), showGeography()]);
+      if (seq !== loadSeq) return;
+      const computed = await computeInWorker(csv, m);
+      if (seq !== loadSeq) return;
       manifest = m;
-      data = await computeInWorker(csv, m);
+      data = computed;
       projection = chooseProjection(data.lats, data.lons);
       boxes = regionBoxes(m.layout);
       maxList = Math.max(1, ...data.lists.map((l) => l.length));
+      const veiled = m.layout.kind === 'veiled';
+      // A veiled layout's lists are private: there are no lengths to colour, only the coarse grid.
+      showHeat.box.disabled = veiled;
+      showHeat.label.title = veiled ? 'The lists of a veiled layout are fetched privately: there are no lengths to show' : '';
       legend.replaceChildren(
-        'List length: 0',
-        h('span', { class: 'ramp', style: `background: ${rampCss()}` }),
-        `${maxList} (padded to ${m.record.slotsPerRegion})`,
-        ` · ${projection.name}`,
+        ...(veiled
+          ? ['Outlines: the public coarse grid (regions inside each cell are private)']
+          : ['List length: 0', h('span', { class: 'ramp', style: `background: ${rampCss()}` }), `${maxList} (padded to ${m.record.slotsPerRegion})`]),
       );
+      projectionNote = `Projection: ${projection.name} · Land and borders: Natural Earth 1:110m (public domain)`;
       renderFacts(m, data);
       fit();
-      say(`v${version}: ${fmt.format(data.ids.length)} sites, ${fmt.format(data.lists.length)} regions, lists rebuilt in ${(data.ms / 1000).toFixed(1)} s`, 'good');
+      say(
+        m.layout.kind === 'veiled'
+          ? `v${version}: ${fmt.format(data.ids.length)} sites, veiled: ${fmt.format(m.layout.rows * m.layout.cols)} public coarse cell${m.layout.rows * m.layout.cols === 1 ? '' : 's'} over ${fmt.format(m.layout.regions)} private regions`
+          : `v${version}: ${fmt.format(data.ids.length)} sites, ${fmt.format(data.lists.length)} regions, lists rebuilt in ${(data.ms / 1000).toFixed(1)} s`,
+        'good',
+      );
       info.replaceChildren(h('p', { class: 'grid-note' }, 'Click the map to see the region, candidates and nearest site of a point.'));
     } catch (err) {
-      say(`Map: ${errorText(err)}`, 'bad');
+      if (seq === loadSeq) say(`Map: ${errorText(err)}`, 'bad');
     }
   }
 
@@ -138,18 +179,33 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     });
   }
 
+  /** Land and borders, loaded once; the map works without them if they fail. */
+  async function showGeography(): Promise<void> {
+    try {
+      geo ??= await import('./geography.ts');
+      geography = await geo.loadGeography();
+      draw();
+    } catch (err) {
+      showLand.box.disabled = true;
+      showLand.label.title = `Land and borders could not be loaded: ${errorText(err)}`;
+    }
+  }
+
   function renderFacts(m: Manifest, d: MapData): void {
+    if (m.layout.kind === 'veiled') {
+      facts.replaceChildren(...veiledFacts(m).flatMap(([k, v]) => [h('dt', {}, k), h('dd', {}, v)]));
+      return;
+    }
     const lengths = d.lists.map((l) => l.length);
     const mean = lengths.reduce((a, b) => a + b, 0) / Math.max(1, lengths.length);
     const layout =
       m.layout.kind === 'grid'
         ? `uniform grid ${m.layout.rows} × ${m.layout.cols} + outside`
-        : m.layout.kind === 'kd'
-          ? `adaptive (kd), ${fmt.format(d.lists.length)} regions`
-          : `veiled: public coarse grid ${m.layout.rows} × ${m.layout.cols}, ${fmt.format(m.layout.regions)} private regions`;
+        : `adaptive, ${fmt.format(d.lists.length)} regions`;
     const pairs: Array<[string, string]> = [
       ['Layout', layout],
       ['Sites', fmt.format(d.ids.length)],
+      ['Nearest sites served', `k = ${m.maxK ?? 1}`],
       ['Longest list', `${maxList} sites`],
       ['Mean list', `${mean.toFixed(1)} sites`],
       ['Matrix', `${fmt.format(m.matrix.rows)} × ${fmt.format(m.matrix.columns)} bits`],
@@ -211,13 +267,19 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     const g = canvas.getContext('2d')!;
     g.setTransform(dpr, 0, 0, dpr, 0, 0);
     g.clearRect(0, 0, w, hh);
+    if (projection && geo) {
+      geo.drawGeography(g, projection, view, { w, h: hh }, { geography, land: showLand.box.checked, graticule: showGraticule.box.checked });
+      // Says what is under the sites now: for people (the note) and for the browser test (the attribute).
+      canvas.dataset.geography = geography && showLand.box.checked ? 'drawn' : 'off';
+      mapNote.textContent = projectionNote + (showGraticule.box.checked ? ` · graticule every ${geo.graticuleStep(view.scale)}°` : '');
+    }
     if (!data || !projection || !manifest) {
       g.fillStyle = '#5a6475';
       g.font = '14px system-ui, sans-serif';
       g.fillText('Choose a dataset with a built version.', 16, 28);
       return;
     }
-    if (showHeat.box.checked) {
+    if (showHeat.box.checked && !showHeat.box.disabled) {
       for (const b of boxes) {
         boxPath(g, b, w, hh);
         g.fillStyle = heatColour((data.lists[b.region]?.length ?? 0) / maxList);
@@ -276,36 +338,62 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     g.fillText(bar >= 1000 ? `${bar / 1000} km` : `${bar} m`, 16, hh - 26);
   }
 
+  /** The latitude and longitude under a canvas pixel, or null off the globe. */
+  function pointAt(px: number, py: number): [number, number] | null {
+    if (!projection) return null;
+    const { w, h: hh } = size();
+    return projection.inverse(...fromPixel(px, py, w, hh));
+  }
+
+  function showPointer(where: string, ll: [number, number] | null): void {
+    pointer.textContent = ll ? `${where}: ${coordinates(ll[0], ll[1])}` : `${where}: off the globe`;
+    if (ll) {
+      pointer.dataset.lat = ll[0].toFixed(6);
+      pointer.dataset.lon = ll[1].toFixed(6);
+    } else {
+      delete pointer.dataset.lat;
+      delete pointer.dataset.lon;
+    }
+  }
+
   function inspect(px: number, py: number): void {
     if (!data || !projection || !manifest) return;
-    const { w, h: hh } = size();
-    const ll = projection.inverse(...fromPixel(px, py, w, hh));
+    const ll = pointAt(px, py);
     if (!ll) return say('That point is off the globe', 'bad');
     const [lat, lon] = ll;
+    let brute = { index: 0, distanceMeters: Infinity };
+    for (let i = 0; i < data.lats.length; i++) {
+      const d = greatCircleMeters(lat, lon, data.qlats[i]!, data.qlons[i]!);
+      if (d < brute.distanceMeters) brute = { index: i, distanceMeters: d };
+    }
+    const site = (i: number) => `${data!.ids[i]}${data!.names[i] ? ` (${data!.names[i]})` : ''}`;
+    const far = isFarFromCoverage(manifestCoverage(manifest), lat, lon);
+    const notes = [
+      h('p', { class: 'grid-note', id: 'map-distance-note' }, DISTANCE_NOTE),
+      far ? h('p', { class: 'status bad', id: 'map-far' }, 'This point is far outside the area the sites cover: the nearest listed site may be very far, and closer services the list does not hold may exist.') : '',
+    ];
     if (manifest.layout.kind === 'veiled') {
-      let best = 0;
-      for (let i = 1; i < data.lats.length; i++) {
-        if (greatCircleMeters(lat, lon, data.qlats[i]!, data.qlons[i]!) < greatCircleMeters(lat, lon, data.qlats[best]!, data.qlons[best]!)) best = i;
-      }
+      picked = null;
       info.replaceChildren(
-        h('p', {}, `Point ${lat.toFixed(5)}, ${lon.toFixed(5)}: nearest site ${data.ids[best]} (search of every site).`),
-        h('p', { class: 'grid-note' }, 'This version uses the veiled layout: its regions are fetched privately by apps, so the map shows only the public coarse grid.'),
+        h(
+          'dl',
+          { class: 'facts' },
+          h('dt', {}, 'Point'), h('dd', {}, `${lat.toFixed(5)}, ${lon.toFixed(5)}`),
+          h('dt', {}, 'Nearest'), h('dd', { id: 'map-nearest' }, `${site(brute.index)}, ${distanceText(brute.distanceMeters)} (search of every site in your table)`),
+        ),
+        h('p', { class: 'grid-note' }, 'Veiled layout: an app finds this point\'s region inside its coarse cell with a private query, so the map cannot show the region or its candidates.'),
+        ...notes,
       );
+      draw();
       return;
     }
     const where = locateRegion(manifest, lat, lon);
     const list = Array.from(data.lists[where.region] ?? []);
     // What a client would decode: the candidates at their stored (quantised) coordinates.
     const candidates = nearestCandidates(list.map((index) => ({ index, lat: data!.qlats[index]!, lon: data!.qlons[index]! })), lat, lon, list.length || 1);
-    let brute = { index: 0, distanceMeters: Infinity };
-    for (let i = 0; i < data.lats.length; i++) {
-      const d = greatCircleMeters(lat, lon, data.qlats[i]!, data.qlons[i]!);
-      if (d < brute.distanceMeters) brute = { index: i, distanceMeters: d };
-    }
     picked = { lat, lon, region: where.region, column: where.column, candidates, brute };
     const nearest = candidates[0];
     const agree = nearest !== undefined && Math.abs(nearest.distanceMeters - brute.distanceMeters) < 1e-6;
-    const site = (i: number) => `${data!.ids[i]}${data!.names[i] ? ` (${data!.names[i]})` : ''}`;
     info.replaceChildren(
       h(
         'dl',
@@ -313,11 +401,12 @@ export function mapScreen(ctx: ConsoleContext): Screen {
         h('dt', {}, 'Point'), h('dd', {}, `${lat.toFixed(5)}, ${lon.toFixed(5)}`),
         h('dt', {}, 'Region'), h('dd', { id: 'map-region' }, `${where.region} (matrix column ${where.column})`),
         h('dt', {}, 'Candidates'), h('dd', {}, `${list.length} of ${manifest.record.slotsPerRegion} slots`),
-        h('dt', {}, 'Nearest'), h('dd', { id: 'map-nearest' }, nearest ? `${site(nearest.index)}, ${fmt.format(Math.round(nearest.distanceMeters))} m` : 'none'),
+        h('dt', {}, 'Nearest'), h('dd', { id: 'map-nearest' }, nearest ? `${site(nearest.index)}, ${distanceText(nearest.distanceMeters)}` : 'none'),
         h('dt', {}, 'Check'), h('dd', {}, agree ? 'equals a search of every site' : `differs: every-site search gives ${site(brute.index)}`),
       ),
-      h('ol', { class: 'grid-note' }, ...candidates.slice(0, 12).map((c) => h('li', {}, `${site(c.index)} · ${fmt.format(Math.round(c.distanceMeters))} m`))),
+      h('ol', { class: 'grid-note' }, ...candidates.slice(0, 12).map((c) => h('li', {}, `${site(c.index)} · ${distanceText(c.distanceMeters)}`))),
       candidates.length > 12 ? h('p', { class: 'grid-note' }, `… ${candidates.length - 12} more`) : '',
+      ...notes,
     );
     draw();
   }
@@ -334,6 +423,7 @@ export function mapScreen(ctx: ConsoleContext): Screen {
     drag = { x: e.offsetX, y: e.offsetY, vx: view.x, vy: view.y, moved: false };
   });
   canvas.addEventListener('pointermove', (e) => {
+    if (!drag || !drag.moved) showPointer('Pointer', pointAt(e.offsetX, e.offsetY));
     if (!drag) return;
     const dx = e.offsetX - drag.x;
     const dy = e.offsetY - drag.y;
@@ -347,6 +437,9 @@ export function mapScreen(ctx: ConsoleContext): Screen {
   canvas.addEventListener('pointerup', (e) => {
     if (drag && !drag.moved) inspect(e.offsetX, e.offsetY);
     drag = null;
+  });
+  canvas.addEventListener('pointerleave', () => {
+    if (projection) showPointer('Centre', pointAt(size().w / 2, size().h / 2));
   });
   canvas.addEventListener('wheel', (e) => {
     e.preventDefault();
@@ -373,6 +466,7 @@ export function mapScreen(ctx: ConsoleContext): Screen {
       e.preventDefault();
       keys[e.key]!();
       draw();
+      showPointer('Centre', pointAt(size().w / 2, size().h / 2));
     } else if (e.key === 'Enter') {
       e.preventDefault();
       const { w, h: hh } = size();
@@ -384,7 +478,19 @@ export function mapScreen(ctx: ConsoleContext): Screen {
   return {
     element,
     show() {
-      void picker.refresh().then(() => load()).catch((err) => say(errorText(err), 'bad'));
+      fitCanvas();
+      // Again once the dataset list is in: a long dataset name can wrap the toolbar to another line.
+      void picker.refresh().then(() => (fitCanvas(), load())).catch((err) => say(errorText(err), 'bad'));
     },
   };
+}
+
+/** Latitude and longitude in the site table's own form (signed decimal degrees), with the hemispheres spelt out. */
+function coordinates(lat: number, lon: number): string {
+  return `lat ${lat.toFixed(5)}, lon ${lon.toFixed(5)} (${Math.abs(lat).toFixed(3)}° ${lat >= 0 ? 'N' : 'S'}, ${Math.abs(lon).toFixed(3)}° ${lon >= 0 ? 'E' : 'W'})`;
+}
+
+/** A straight-line distance: metres up to 10 km, then km. */
+function distanceText(metres: number): string {
+  return metres < 10_000 ? `${fmt.format(Math.round(metres))} m` : `${fmt.format(Math.round(metres / 100) / 10)} km`;
 }

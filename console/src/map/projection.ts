@@ -13,6 +13,8 @@ import { EARTH_MEAN_RADIUS_M, RAD } from '../../../core/geo/distance.ts';
  */
 export interface Projection {
   readonly name: string;
+  /** Which of the two (map/geography.ts makes the same one in d3-geo for land and borders). */
+  readonly kind: 'equirectangular' | 'azimuthal-equidistant';
   readonly lat0: number;
   readonly lon0: number;
   forward(lat: number, lon: number): [number, number];
@@ -47,6 +49,7 @@ export function equirectangular(lat0: number, lon0: number): Projection {
   const m = EARTH_MEAN_RADIUS_M * RAD;
   return {
     name: `equirectangular, standard parallel ${lat0.toFixed(2)}°`,
+    kind: 'equirectangular',
     lat0,
     lon0,
     forward: (lat, lon) => [wrap180(lon - lon0) * k, lat * m],
@@ -68,6 +71,7 @@ export function azimuthalEquidistant(lat0: number, lon0: number): Projection {
   const R = EARTH_MEAN_RADIUS_M;
   return {
     name: `azimuthal equidistant, centred at ${lat0.toFixed(1)}°, ${lon0.toFixed(1)}°`,
+    kind: 'azimuthal-equidistant',
     lat0,
     lon0,
     forward(lat, lon) {

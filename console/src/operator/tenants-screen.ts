@@ -3,11 +3,12 @@ import { currentMonth, formatPrice, parsePrice } from '../cost/tariff.ts';
 import { download, errorText, fmt, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
 
 /** The tariff's four prices: form label, field, and the unit a price is quoted per. */
-const PRICES: ReadonlyArray<{ field: keyof TariffPrices; label: string; per: string }> = [
-  { field: 'queryMicros', label: 'Per query', per: 'answered query' },
-  { field: 'gbMicros', label: 'Per GB moved', per: 'GB (10^9 bytes, in plus out)' },
-  { field: 'millionMultiplicationsMicros', label: 'Per million products', per: 'million server products' },
-  { field: 'monthlyBaseMicros', label: 'Monthly base', per: 'month' },
+/** `example` is shown as a hint in the empty field ("e.g. ..."), never as a value. */
+const PRICES: ReadonlyArray<{ field: keyof TariffPrices; label: string; per: string; example: string }> = [
+  { field: 'queryMicros', label: 'Per query', per: 'answered query', example: '0.0015' },
+  { field: 'gbMicros', label: 'Per GB moved', per: 'GB (10^9 bytes, in plus out)', example: '0.09' },
+  { field: 'millionMultiplicationsMicros', label: 'Per million products', per: 'million server products', example: '0.0025' },
+  { field: 'monthlyBaseMicros', label: 'Monthly base', per: 'month', example: '49.99' },
 ];
 
 /**
@@ -23,7 +24,10 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
   const adminEmail = h('input', { id: 'tenant-admin', type: 'email', maxlength: 254, placeholder: 'optional' }) as HTMLInputElement;
   const created = h('div', { id: 'tenant-created', 'aria-live': 'polite' });
   const tariffTenant = h('select', { id: 'tariff-tenant' }) as HTMLSelectElement;
-  const priceInputs = PRICES.map((p) => h('input', { id: `tariff-${p.field}`, type: 'text', inputmode: 'decimal', required: true, placeholder: '0.00' }) as HTMLInputElement);
+  const priceInputs = PRICES.map(
+    (p) => h('input', { id: `tariff-${p.field}`, type: 'text', inputmode: 'decimal', required: true, size: 10, placeholder: `e.g. ${p.example}`, 'aria-describedby': 'tariff-hint' }) as HTMLInputElement,
+  );
+  const tariffHint = h('p', { class: 'hint', id: 'tariff-hint' }, 'Amounts of the billing currency, up to 6 decimals; the grey “e.g.” text in an empty field is only an example.');
   const fromMonth = h('input', { id: 'tariff-from', type: 'month', value: currentMonth() }) as HTMLInputElement;
   const tariffNow = h('p', { id: 'tariff-now', class: 'grid-note' });
   let currency = '';
@@ -61,9 +65,9 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
       h('p', { class: 'grid-note' }, 'You run nearveil for these providers. Their admins and editors sign in here to edit their own sites; you belong to no tenant, so their data screens are not yours.'),
       tenantForm,
       created,
-      plainTable('tenants-table', ['Tenant', 'Name', 'People', 'Datasets', 'Created', 'Statement'], body),
+      h('div', { class: 'table-scroll' }, plainTable('tenants-table', ['Tenant', 'Name', 'People', 'Datasets', 'Created', 'Statement (one table per CSV)'], body)),
     ),
-    h('div', { class: 'panel' }, h('h2', {}, 'Tariff'), tariffForm, tariffNow),
+    h('div', { class: 'panel' }, h('h2', {}, 'Tariff'), tariffForm, tariffHint, tariffNow),
   );
 
   /** Reloads the lists; `announce` false keeps the status line of the action that just ran. */
@@ -92,7 +96,13 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
       h('td', { class: 'num' }, fmt.format(t.users)),
       h('td', { class: 'num' }, fmt.format(t.datasets)),
       h('td', {}, t.createdAt.slice(0, 10)),
-      h('td', {}, h('button', { type: 'button', onclick: () => void statement(t.slug, month) }, `${t.slug} ${month} (CSV)`)),
+      h(
+        'td',
+        {},
+        h('button', { type: 'button', onclick: () => void statement(t.slug, month, 'lines') }, `${t.slug} ${month} (CSV)`),
+        ' ',
+        h('button', { type: 'button', onclick: () => void statement(t.slug, month, 'days') }, `${t.slug} ${month} daily usage (CSV)`),
+      ),
     );
   }
 
@@ -148,11 +158,11 @@ export function tenantsScreen(api: NearveilAdmin): HTMLElement {
     }
   }
 
-  async function statement(tenant: string, month: string): Promise<void> {
+  async function statement(tenant: string, month: string, table: 'lines' | 'days'): Promise<void> {
     actions++;
     try {
-      download(`nearveil-${tenant}-${month}.csv`, await (await api.tenantStatement(tenant, month)).text(), 'text/csv');
-      say(`Downloaded the ${month} statement of ${tenant}`, 'good');
+      download(`nearveil-${tenant}-${month}${table === 'days' ? '-daily-usage' : ''}.csv`, await (await api.tenantStatement(tenant, month, table)).text(), 'text/csv');
+      say(`Downloaded the ${month} ${table === 'days' ? 'daily usage' : 'statement'} of ${tenant}`, 'good');
     } catch (err) {
       say(`Statement of ${tenant}: ${errorText(err)}`, 'bad');
     }

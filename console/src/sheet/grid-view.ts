@@ -30,7 +30,7 @@ export interface GridHooks {
  *
  * Keyboard (the grid is one tab stop; the active cell is aria-activedescendant):
  * arrows, Tab, Home/End, Ctrl+Home/End, PageUp/PageDown move; Shift extends the selection;
- * Enter or F2 edits, typing replaces; Escape cancels an edit; Delete clears; Ctrl+D fills down;
+ * Enter or F2 edits with the caret at the end, typing replaces; Escape cancels an edit; Delete clears; Ctrl+D fills down;
  * Ctrl+Z / Ctrl+Y (or Ctrl+Shift+Z) undo and redo; Ctrl+C / Ctrl+X / Ctrl+V copy, cut and paste
  * tab-separated ranges.
  */
@@ -363,8 +363,9 @@ export class GridView {
     input.addEventListener('blur', () => finish(true));
     this.inner.append(input);
     input.focus({ preventScroll: true });
-    if (initial === undefined) input.select();
-    else input.setSelectionRange(input.value.length, input.value.length);
+    // F2, Enter or a double click edits the text in place (caret at its end), as spreadsheets do;
+    // a typed character has already replaced it.
+    input.setSelectionRange(input.value.length, input.value.length);
   }
 
   private clearSelection(): void {

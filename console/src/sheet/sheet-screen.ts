@@ -3,8 +3,10 @@ import { csvToSheet } from '../io/csv-sheet.ts';
 import { importedFileText } from '../io/file-text.ts';
 import { geoJsonToSheet, sheetToGeoJson } from '../io/geojson.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
+import { askText } from '../ui/ask-dialog.ts';
 import { datasetPicker } from '../ui/dataset-picker.ts';
 import { download, errorText, fmt, h, setStatus } from '../ui/dom.ts';
+import { fitHeightToWindow } from '../ui/fit-height.ts';
 import { GridView } from './grid-view.ts';
 import { checkSheet, sheetCsv, sheetExportCsv, type SheetIssues } from './sheet-issues.ts';
 import { SheetModel } from './sheet-model.ts';
@@ -22,10 +24,15 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
   grid.scroller.setAttribute('aria-describedby', 'cell-message');
   let issues: SheetIssues = checkSheet(model.columns, model.rows);
   let loadedFrom = 'a new, empty table';
+  // Save is for changes: off until the table differs from what was opened or last saved.
+  let changed = false;
+  // Set while a version is being opened or just saved, so those model changes are not edits.
+  let settling = false;
+  let shownOnce = false;
 
   const picker = datasetPicker(ctx, 'sheet-dataset', () => undefined);
-  const openButton = h('button', { type: 'button', onclick: () => void openActive() }, 'Open live version');
-  const newDataset = h('button', { type: 'button', onclick: () => void createDataset() }, 'New dataset…');
+  const openButton = h('button', { type: 'button', onclick: () => void openActive() }, 'Open active version');
+  const newDataset = h('button', { type: 'button', onclick: () => createDataset() }, 'New dataset…');
   const fileInput = h('input', { type: 'file', id: 'sheet-import', accept: '.csv,.tsv,.txt,.geojson,.json,text/csv,application/geo+json' }) as HTMLInputElement;
   fileInput.addEventListener('change', () => void importFile());
   const importLabel = h('label', { for: 'sheet-import' }, 'Import CSV or GeoJSON ', fileInput);
@@ -89,8 +96,13 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     ),
   );
 
+  // The grid and the problems list end above the window's bottom, leaving room for the notes under the grid.
+  const fitGrid = fitHeightToWindow(grid.scroller, 72);
+  const fitProblems = fitHeightToWindow(problemsList, 40, 120, 'maxHeight');
+
   let checkTimer = 0;
   model.onChange(() => {
+    if (!settling) changed = true;
     clearTimeout(checkTimer);
     // Checking 100,000 rows takes a few hundred ms: wait until typing pauses.
     checkTimer = window.setTimeout(() => recheck(), model.rows.length > 20_000 ? 250 : 0);
@@ -110,8 +122,8 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
       }),
     );
     if (count > LISTED_PROBLEMS) problemsList.append(h('li', {}, `… and ${fmt.format(count - LISTED_PROBLEMS)} more`));
-    saveButton.disabled = count > 0;
-    saveButton.title = count > 0 ? 'Fix the marked cells first' : '';
+    saveButton.disabled = count > 0 || !changed;
+    saveButton.title = count > 0 ? 'Fix the marked cells first' : !changed ? `Nothing to save: no change since ${loadedFrom} was opened or saved` : '';
     summary.textContent = `${fmt.format(model.rows.length)} rows × ${model.columns.length} columns · from ${loadedFrom}` +
       (issues.blankRows > 0 ? ` · ${issues.blankRows} empty row${issues.blankRows === 1 ? '' : 's'} left out when saving` : '');
     showActive();
@@ -165,14 +177,22 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
   }
 
   function addColumn(): void {
-    const name = window.prompt('Name of the new column (a detail such as phone or hours)');
-    if (name === null) return;
-    try {
-      model.insertColumn(grid.selection().c1 + 1, name);
-      say(`Added column ${name.trim()}`);
-    } catch (err) {
-      say(errorText(err).replace(/^insertColumn: /, ''), 'bad');
-    }
+    void askText({
+      title: 'Add a column',
+      label: 'Name of the new column',
+      hint: 'A detail apps may show, such as phone or hours. It goes right of the selected cells.',
+      submitLabel: 'Add column',
+      maxLength: 64,
+      act: async (name) => {
+        try {
+          model.insertColumn(grid.selection().c1 + 1, name);
+        } catch (err) {
+          return errorText(err).replace(/^insertColumn: /, '');
+        }
+        say(`Added column ${name}`);
+        return null;
+      },
+    });
   }
 
   function deleteColumn(): void {
@@ -203,10 +223,28 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     }
   }
 
-  async function openVersion(slug: string, version: number): Promise<void> {
+  /** Opens the chosen dataset's active version, if it has one; an empty dataset stays an empty table without a complaint. */
+  async function openActiveQuietly(): Promise<void> {
+    const slug = picker.select.value;
+    try {
+      const { activeVersion } = await ctx.api.versions(slug);
+      const untouched = () => !changed && model.rows.length === 0 && picker.select.value === slug;
+      if (activeVersion !== null && untouched()) await openVersion(slug, activeVersion, untouched);
+      else say(`${slug} has no active version: paste, type or import sites, then save`);
+    } catch (err) {
+      say(errorText(err), 'bad');
+    }
+  }
+
+  /** `stillWanted`: checked once the table has arrived (the person may have moved on meanwhile). */
+  async function openVersion(slug: string, version: number, stillWanted: () => boolean = () => true): Promise<void> {
     say(`Opening ${slug} version ${version}…`);
     const sheet = csvToSheet(await ctx.api.table(slug, version));
+    if (!stillWanted()) return;
+    settling = true;
     model.replace(`open ${slug} v${version}`, sheet.columns, sheet.rows);
+    settling = false;
+    changed = false;
     loadedFrom = `${slug} version ${version}`;
     grid.sortState = null;
     grid.moveTo({ r: 0, c: 0 });
@@ -214,20 +252,31 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     say(`Opened ${slug} version ${version}: ${fmt.format(sheet.rows.length)} rows`, 'good');
   }
 
-  async function createDataset(): Promise<void> {
-    const slug = window.prompt('Short name of the new dataset (lower-case letters, digits and dashes)');
-    if (!slug) return;
-    try {
-      await ctx.api.createDataset(slug.trim());
-      ctx.setDataset(slug.trim());
-      await picker.refresh();
-      model.replace('new dataset', ['id', 'name', 'lat', 'lon'], []);
-      loadedFrom = `a new table for ${slug.trim()}`;
-      recheck();
-      say(`Created dataset ${slug.trim()}: paste or import its sites, then save`, 'good');
-    } catch (err) {
-      say(errorText(err), 'bad');
-    }
+  function createDataset(): void {
+    void askText({
+      title: 'New dataset',
+      label: 'Short name of the dataset',
+      hint: 'Lower-case letters, digits and dashes; apps ask for the dataset by this name.',
+      submitLabel: 'Create dataset',
+      maxLength: 63,
+      act: async (slug) => {
+        try {
+          await ctx.api.createDataset(slug);
+        } catch (err) {
+          return errorText(err);
+        }
+        ctx.setDataset(slug);
+        await picker.refresh().catch(() => null);
+        settling = true;
+        model.replace('new dataset', ['id', 'name', 'lat', 'lon'], []);
+        settling = false;
+        changed = false;
+        loadedFrom = `a new table for ${slug}`;
+        recheck();
+        say(`Created dataset ${slug}: paste or import its sites, then save`, 'good');
+        return null;
+      },
+    });
   }
 
   async function importFile(): Promise<void> {
@@ -272,12 +321,13 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     try {
       const saved = await ctx.api.upload(slug, sheetCsv(model.columns, model.rows));
       loadedFrom = `${slug} version ${saved.version}`;
+      changed = false;
       say(`Saved as version ${saved.version} of ${slug} (draft, ${fmt.format(saved.siteCount)} sites). Build and publish it under Versions.`, 'good');
     } catch (err) {
       const extra = err instanceof ApiFailure && err.details.length > 0 ? ` (${err.details.slice(0, 3).map((d) => `row ${d.row}: ${d.message}`).join('; ')})` : '';
       say(`Not saved: ${errorText(err)}${extra}`, 'bad');
     } finally {
-      saveButton.disabled = issues.list.length > 0;
+      recheck();
     }
   }
 
@@ -289,7 +339,22 @@ export function sheetScreen(ctx: ConsoleContext): Screen & { model: SheetModel; 
     grid,
     openVersion: (slug, version) => openVersion(slug, version).catch((err) => say(errorText(err), 'bad')),
     show() {
-      void picker.refresh().catch((err) => say(errorText(err), 'bad'));
+      const fit = () => {
+        fitGrid();
+        fitProblems();
+      };
+      fit();
+      // Again once the dataset list is in: a long dataset name can wrap the toolbar to another line.
+      // The first time, an untouched empty table gives way to the chosen dataset's active version.
+      const first = !shownOnce;
+      shownOnce = true;
+      void picker.refresh().then(
+        () => {
+          fit();
+          if (first && !changed && model.rows.length === 0 && picker.select.value) void openActiveQuietly();
+        },
+        (err) => say(errorText(err), 'bad'),
+      );
       grid.render();
     },
   };

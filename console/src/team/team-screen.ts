@@ -1,7 +1,9 @@
 import { canAdminister } from '../api/client.ts';
 import type { AuditLine, Role, UserInfo } from '../api/nearveil.ts';
+import { confirmAction } from '../ui/ask-dialog.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { errorText, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
+import { actionWords, targetWords } from './audit-words.ts';
 
 /** 18 random bytes as base64url: 24 characters, 144 bits (the server asks for at least 12 characters). */
 function randomPassword(): string {
@@ -9,7 +11,8 @@ function randomPassword(): string {
   return btoa(String.fromCharCode(...bytes)).replace(/\+/g, '-').replace(/\//g, '_');
 }
 
-const ROLE_NAMES: Record<Exclude<Role, 'operator'>, string> = { tenant_admin: 'admin', tenant_editor: 'editor' };
+/** The least role first: a new person is an editor unless the admin chooses otherwise. */
+const ROLE_NAMES: Record<Exclude<Role, 'operator'>, string> = { tenant_editor: 'editor', tenant_admin: 'admin' };
 
 /** The tenant's people and its audit trail: who may do what, and who did what when. */
 export function teamScreen(ctx: ConsoleContext): Screen {
@@ -17,11 +20,13 @@ export function teamScreen(ctx: ConsoleContext): Screen {
   const say = (text: string, tone: 'plain' | 'good' | 'bad' = 'plain') => setStatus(status, text, tone);
   const email = h('input', { id: 'user-email', type: 'email', required: true, maxlength: 254, placeholder: 'name@example.org' }) as HTMLInputElement;
   const role = h('select', { id: 'user-role' }, ...Object.entries(ROLE_NAMES).map(([value, label]) => h('option', { value }, label))) as HTMLSelectElement;
+  role.value = 'tenant_editor';
   const passwordBox = h('div', { id: 'user-password', 'aria-live': 'polite' });
   const usersBody = h('tbody', {});
   const auditBody = h('tbody', {});
   const older = h('button', { type: 'button', hidden: true, onclick: () => void loadAudit(false) }, 'Older entries') as HTMLButtonElement;
   let next: string | null = null;
+  let keyLabels = new Map<string, string>();
 
   const form = h(
     'form',
@@ -32,27 +37,31 @@ export function teamScreen(ctx: ConsoleContext): Screen {
   );
   onSubmit(form, addUser);
 
-  const element = h(
-    'section',
-    { 'aria-label': 'Team and activity' },
-    status,
-    h(
+  const peoplePanel = h(
       'div',
       { class: 'panel' },
       h('h2', {}, 'People'),
       h('p', { class: 'grid-note' }, 'Editors edit, upload and build; admins also publish, roll back, manage keys and people, and read statements and the activity below.'),
       form,
       passwordBox,
-      plainTable('users-table', ['Email', 'Role', 'Added', 'State', ''], usersBody),
-    ),
-    h(
-      'div',
-      { class: 'panel' },
-      h('h2', {}, 'Activity'),
-      plainTable('audit-table', ['When (UTC)', 'Who', 'What', 'Which'], auditBody),
-      older,
-    ),
+      h('div', { class: 'table-scroll' }, plainTable('users-table', ['Email', 'Role', 'Added', 'State', ''], usersBody)),
   );
+  const activityPanel = h(
+    'div',
+    { class: 'panel' },
+    h('h2', {}, 'Activity'),
+    h('div', { class: 'table-scroll' }, plainTable('audit-table', ['When (UTC)', 'Who', 'What', 'Which'], auditBody)),
+    older,
+  );
+  /** What an editor sees instead: who does what here, in plain words. */
+  const editorPanel = h(
+    'div',
+    { class: 'panel', id: 'team-for-editors' },
+    h('h2', {}, 'People'),
+    h('p', {}, 'Your tenant\'s admins add people, change their roles and read the activity log. As an editor you edit site tables, save versions and build them; an admin publishes them.'),
+    h('p', {}, 'To change your own password, use Password… at the top.'),
+  );
+  const element = h('section', { 'aria-label': 'Team and activity' }, status, peoplePanel, activityPanel, editorPanel);
 
   async function loadUsers(): Promise<void> {
     try {
@@ -106,13 +115,25 @@ export function teamScreen(ctx: ConsoleContext): Screen {
   }
 
   async function disable(u: UserInfo): Promise<void> {
-    if (!window.confirm(`Disable ${u.email}? They are signed out at once and cannot sign in until enabled again.`)) return;
+    const sure = await confirmAction({
+      title: `Disable ${u.email}?`,
+      message: `${u.email} is signed out at once and cannot sign in until an admin enables them again. Their work stays.`,
+      confirmLabel: `Disable ${u.email}`,
+      danger: true,
+    });
+    if (!sure) return;
     await change(u, { disabled: true }, `Disabled ${u.email}`);
   }
 
   /** For someone who lost theirs: a random password, shown once; their sessions end. */
   async function resetPassword(u: UserInfo): Promise<void> {
-    if (!window.confirm(`Give ${u.email} a new password? Their current one stops working and they are signed out.`)) return;
+    const sure = await confirmAction({
+      title: `New password for ${u.email}?`,
+      message: `Their current password stops working and they are signed out. The new one is shown here once, for you to pass on privately.`,
+      confirmLabel: 'Make a new password',
+      danger: true,
+    });
+    if (!sure) return;
     const password = randomPassword();
     if (!(await change(u, { password }, `${u.email} has a new password`))) return;
     passwordBox.replaceChildren(h('p', {}, `${u.email}'s new password, shown only now: `, h('code', { id: 'reset-user-password' }, password), '. Pass it on privately.'));
@@ -134,6 +155,8 @@ export function teamScreen(ctx: ConsoleContext): Screen {
   /** First page (`fresh`) or the next older one. */
   async function loadAudit(fresh: boolean): Promise<void> {
     try {
+      // Keys are named by id in the log: their labels read better (revoked keys stay listed).
+      if (fresh) keyLabels = new Map((await ctx.api.keys().catch(() => [])).map((k) => [k.id, k.label]));
       const page = await ctx.api.audit(fresh ? null : next);
       next = page.next;
       const rows = page.events.map(auditRow);
@@ -147,17 +170,24 @@ export function teamScreen(ctx: ConsoleContext): Screen {
   }
 
   function auditRow(e: AuditLine): HTMLElement {
-    return h('tr', {}, h('td', {}, e.at.replace('T', ' ').slice(0, 19)), h('td', {}, e.actor.label), h('td', { class: 'action' }, e.action), h('td', {}, e.target));
+    return h(
+      'tr',
+      {},
+      h('td', {}, e.at.replace('T', ' ').slice(0, 19)),
+      h('td', {}, e.actor.label),
+      h('td', { class: 'action', title: e.action }, actionWords(e)),
+      h('td', { class: 'target' }, targetWords(e, keyLabels)),
+    );
   }
 
   return {
     element,
     show() {
-      if (!canAdminister(ctx.signed)) {
-        say('People and activity are for tenant admins; ask one of them for changes.');
-        form.hidden = true;
-        return;
-      }
+      const admin = canAdminister(ctx.signed);
+      peoplePanel.hidden = !admin;
+      activityPanel.hidden = !admin;
+      editorPanel.hidden = admin;
+      if (!admin) return say('People and activity are for tenant admins; ask one of them for changes.');
       void loadUsers();
       void loadAudit(true);
     },
