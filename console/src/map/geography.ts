@@ -65,7 +65,7 @@ export function d3Projection(projection: Projection): GeoProjection {
 /** Graticule spacing in degrees: lines at least ~90 px apart at the map's scale. */
 export function graticuleStep(pixelsPerMetre: number): number {
   const degreesPer90px = 90 / (pixelsPerMetre * EARTH_MEAN_RADIUS_M * (Math.PI / 180));
-  return [0.1, 0.2, 0.5, 1, 2, 5, 10, 15, 30].find((s) => s >= degreesPer90px) ?? 30;
+  return GRATICULE_STEPS.find((s) => s >= degreesPer90px) ?? 30;
 }
 
 /** Paints the sea, then the graticule and/or the land and borders, in the map's projection and view. */
@@ -102,9 +102,45 @@ export function drawGeography(
     stroke(layers.geography.borders, GEOGRAPHY_COLOURS.border, 0.8);
   }
   if (layers.graticule) {
-    const step = graticuleStep(view.scale);
-    // Whole sphere, poles included (d3's default stops minor lines at 80 degrees).
-    const lines = geoGraticule().extent([[-180, -90], [180, 90]]).step([step, step]).precision(Math.min(2.5, step / 4))();
+    // Only the lines in view: at 0.1 degree, the whole sphere is 5,400 lines of some 7,000 points
+    // each, tens of seconds of drawing that froze the page when zoomed in.
+    let step = graticuleStep(view.scale);
+    let extent = visibleExtent(d3, size, step);
+    while (lineCount(extent, step) > MAX_GRATICULE_LINES && step < 30) {
+      step = GRATICULE_STEPS.find((s) => s > step) ?? 30;
+      extent = visibleExtent(d3, size, step);
+    }
+    const lines = geoGraticule().extent(extent).step([step, step]).precision(Math.min(2.5, step / 4))();
     stroke(lines, GEOGRAPHY_COLOURS.graticule, 1);
   }
+}
+
+const GRATICULE_STEPS = [0.1, 0.2, 0.5, 1, 2, 5, 10, 15, 30];
+/** More lines than this are never drawn (a pole in view at a high zoom widens the extent to every meridian). */
+const MAX_GRATICULE_LINES = 400;
+type Extent = [[number, number], [number, number]];
+const lineCount = ([[w, s], [e, n]]: Extent, step: number) => (e - w) / step + (n - s) / step;
+
+/**
+ * The longitudes and latitudes in view, from a 9 x 9 grid of canvas points taken back to the
+ * sphere, widened by one step and snapped to it; the whole sphere (poles included: d3's default
+ * stops minor lines at 80 degrees) when a point is off the globe or the view spans over 180 degrees.
+ */
+function visibleExtent(d3: GeoProjection, size: { w: number; h: number }, step: number): Extent {
+  const lons: number[] = [];
+  const lats: number[] = [];
+  for (let i = 0; i <= 8; i++) {
+    for (let j = 0; j <= 8; j++) {
+      const p = d3.invert?.([(size.w * i) / 8, (size.h * j) / 8]);
+      if (!p || !Number.isFinite(p[0]) || !Number.isFinite(p[1])) return [[-180, -90], [180, 90]];
+      lons.push(p[0]);
+      lats.push(p[1]);
+    }
+  }
+  const [west, east, south, north] = [Math.min(...lons), Math.max(...lons), Math.min(...lats), Math.max(...lats)];
+  if (east - west > 180) return [[-180, -90], [180, 90]];
+  return [
+    [Math.max(-180, Math.floor(west / step) * step - step), Math.max(-90, Math.floor(south / step) * step - step)],
+    [Math.min(180, Math.ceil(east / step) * step + step), Math.min(90, Math.ceil(north / step) * step + step)],
+  ];
 }
