@@ -1,4 +1,5 @@
-import { z } from 'zod';
+// zod/mini: the same checks as zod with a fraction of its size in the browser client's bundle.
+import { z } from 'zod/mini';
 import { LAT_BITS, LON_BITS } from './quantise.ts';
 import { coarseCellCount } from './veiled-layout.ts';
 
@@ -7,7 +8,7 @@ import { coarseCellCount } from './veiled-layout.ts';
  * for the right column and decode the answer. Field by field in MANIFEST.md (same folder).
  * The cross-field rules below are the invariants locate.ts and candidates.ts rely on.
  */
-const count = z.number().int().min(1).max(2 ** 32 - 1);
+const count = z.int().check(z.minimum(1), z.maximum(2 ** 32 - 1));
 
 /** Largest k a build serves (k nearest sites); lists grow with k. */
 export const MAX_K = 8;
@@ -15,26 +16,26 @@ export const MAX_K = 8;
 export const GridLayoutSchema = z
   .object({
     kind: z.literal('grid'),
-    latMin: z.number().min(-90).max(90),
-    latMax: z.number().min(-90).max(90),
-    lonMin: z.number().min(-180).lt(180),
-    lonMax: z.number().finite(),
+    latMin: z.number().check(z.minimum(-90), z.maximum(90)),
+    latMax: z.number().check(z.minimum(-90), z.maximum(90)),
+    lonMin: z.number().check(z.minimum(-180), z.lt(180)),
+    lonMax: z.number(),
     rows: count,
     cols: count,
   })
-  .refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' })
-  .refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, {
+  .check(z.refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' }))
+  .check(z.refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, {
     error: 'layout: expected lonMin < lonMax <= lonMin + 360',
-  });
+  }));
 
 /** The adaptive layout (kd-layout.ts): preorder splits, null for a leaf (a region). */
 export const KdLayoutSchema = z
   .object({
     kind: z.literal('kd'),
-    lonStart: z.number().min(-360).max(360),
-    nodes: z.array(z.union([z.tuple([z.union([z.literal(0), z.literal(1)]), z.number().finite()]), z.null()])).min(1),
+    lonStart: z.number().check(z.minimum(-360), z.maximum(360)),
+    nodes: z.array(z.union([z.tuple([z.union([z.literal(0), z.literal(1)]), z.number()]), z.null()])).check(z.minLength(1)),
   })
-  .refine((k) => isPreorderTree(k.nodes), { error: 'layout: expected nodes to be one complete tree in preorder' });
+  .check(z.refine((k) => isPreorderTree(k.nodes), { error: 'layout: expected nodes to be one complete tree in preorder' }));
 
 /**
  * The veiled layout (veiled-layout.ts): only a coarse grid over a whole-degree box is public; each
@@ -43,31 +44,31 @@ export const KdLayoutSchema = z
 export const VeiledLayoutSchema = z
   .object({
     kind: z.literal('veiled'),
-    latMin: z.number().int().min(-90).max(90),
-    latMax: z.number().int().min(-90).max(90),
-    lonMin: z.number().int().min(-180).lt(180),
-    lonMax: z.number().int(),
+    latMin: z.int().check(z.minimum(-90), z.maximum(90)),
+    latMax: z.int().check(z.minimum(-90), z.maximum(90)),
+    lonMin: z.int().check(z.minimum(-180), z.lt(180)),
+    lonMax: z.int(),
     rows: count,
     cols: count,
-    splitBits: z.number().int().min(0).max(8),
-    offsetBits: z.number().int().min(1).max(31),
+    splitBits: z.int().check(z.minimum(0), z.maximum(8)),
+    offsetBits: z.int().check(z.minimum(1), z.maximum(31)),
     partitionBits: count,
     regions: count,
   })
-  .refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' })
-  .refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, { error: 'layout: expected lonMin < lonMax <= lonMin + 360' })
-  .refine((g) => 2 ** g.offsetBits >= g.regions, { error: 'layout: expected offsetBits to hold every region number' })
-  .refine((g) => g.partitionBits >= g.offsetBits + 1, { error: 'layout: expected partitionBits to hold an offset and a leaf' });
+  .check(z.refine((g) => g.latMin < g.latMax, { error: 'layout: expected latMin < latMax' }))
+  .check(z.refine((g) => g.lonMin < g.lonMax && g.lonMax <= g.lonMin + 360, { error: 'layout: expected lonMin < lonMax <= lonMin + 360' }))
+  .check(z.refine((g) => 2 ** g.offsetBits >= g.regions, { error: 'layout: expected offsetBits to hold every region number' }))
+  .check(z.refine((g) => g.partitionBits >= g.offsetBits + 1, { error: 'layout: expected partitionBits to hold an offset and a leaf' }));
 
 /** The box around an adaptive layout's sites (core/geo/coverage.ts), rounded outward to 0.1 degree. */
 export const CoverageSchema = z
   .object({
-    latMin: z.number().min(-90).max(90),
-    latMax: z.number().min(-90).max(90),
-    lonMin: z.number().min(-180).lt(180),
-    lonMax: z.number().finite(),
+    latMin: z.number().check(z.minimum(-90), z.maximum(90)),
+    latMax: z.number().check(z.minimum(-90), z.maximum(90)),
+    lonMin: z.number().check(z.minimum(-180), z.lt(180)),
+    lonMax: z.number(),
   })
-  .refine((b) => b.latMin <= b.latMax && b.lonMin <= b.lonMax && b.lonMax <= b.lonMin + 360, { error: 'coverage: expected latMin <= latMax and lonMin <= lonMax <= lonMin + 360' });
+  .check(z.refine((b) => b.latMin <= b.latMax && b.lonMin <= b.lonMax && b.lonMax <= b.lonMin + 360, { error: 'coverage: expected latMin <= latMax and lonMin <= lonMax <= lonMin + 360' }));
 
 export const LayoutSchema = z.union([GridLayoutSchema, KdLayoutSchema, VeiledLayoutSchema]);
 export type Layout = z.infer<typeof LayoutSchema>;
@@ -90,32 +91,32 @@ function isPreorderTree(nodes: ReadonlyArray<unknown>): boolean {
 
 export const RecordSchema = z
   .object({
-    indexBits: z.number().int().min(1).max(31),
+    indexBits: z.int().check(z.minimum(1), z.maximum(31)),
     latBits: z.literal(LAT_BITS),
     lonBits: z.literal(LON_BITS),
     slotBits: count,
     slotsPerRegion: count,
     regionBits: count,
   })
-  .refine((r) => r.slotBits === r.indexBits + r.latBits + r.lonBits, { error: 'record: expected slotBits = indexBits + latBits + lonBits' })
-  .refine((r) => r.regionBits === r.slotBits * r.slotsPerRegion, { error: 'record: expected regionBits = slotBits * slotsPerRegion' });
+  .check(z.refine((r) => r.slotBits === r.indexBits + r.latBits + r.lonBits, { error: 'record: expected slotBits = indexBits + latBits + lonBits' }))
+  .check(z.refine((r) => r.regionBits === r.slotBits * r.slotsPerRegion, { error: 'record: expected regionBits = slotBits * slotsPerRegion' }));
 
 /**
  * How the server answers this matrix (core/pir/answer-plan.ts), recorded with the build: the
  * products one answer costs with this plan and with the plain one, so the choice explains itself.
  */
-const products = z.number().int().min(0);
+const products = z.int().check(z.minimum(0));
 /** Every plan the build weighed, e.g. { plan: 'blocked b=6', products: 86015 }: the reason for the choice. */
-const weighed = z.array(z.object({ plan: z.string(), products })).optional();
+const weighed = z.optional(z.array(z.object({ plan: z.string(), products })));
 export const PlanRecordSchema = z.discriminatedUnion('kind', [
   z.object({ kind: z.literal('plain'), products, plainProducts: products, weighed }),
-  z.object({ kind: z.literal('blocked'), blockColumns: z.number().int().min(1).max(12), products, plainProducts: products, weighed }),
+  z.object({ kind: z.literal('blocked'), blockColumns: z.int().check(z.minimum(1), z.maximum(12)), products, plainProducts: products, weighed }),
   // The rules are mined again from the stored matrix by the server (mining is deterministic).
-  z.object({ kind: z.literal('mined'), rules: z.number().int().min(0), products, plainProducts: products, weighed }),
+  z.object({ kind: z.literal('mined'), rules: z.int().check(z.minimum(0)), products, plainProducts: products, weighed }),
 ]);
 export type PlanRecord = z.infer<typeof PlanRecordSchema>;
 
-const sha256 = z.string().regex(/^[0-9a-f]{64}$/);
+const sha256 = z.string().check(z.regex(/^[0-9a-f]{64}$/));
 
 /**
  * The private details of a version (core/details/DETAILS.md): the sealed file every client
@@ -123,17 +124,17 @@ const sha256 = z.string().regex(/^[0-9a-f]{64}$/);
  */
 export const DetailsSchema = z
   .object({
-    columns: z.array(z.string().min(1)),
+    columns: z.array(z.string().check(z.minLength(1))),
     recordBytes: count,
     sealedRecordBytes: count,
     sealedHash: sha256,
     sealedBytes: count,
     keyBits: z.literal(128),
-    keysPerColumn: z.number().int().min(1).max(16),
-    matrix: z.object({ contentHash: sha256, rows: count, columns: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
+    keysPerColumn: z.int().check(z.minimum(1), z.maximum(16)),
+    matrix: z.object({ contentHash: sha256, rows: count, columns: count, ones: z.int().check(z.minimum(0)), plan: PlanRecordSchema }),
   })
-  .refine((d) => d.sealedRecordBytes === d.recordBytes + 16, { error: 'details: expected sealedRecordBytes = recordBytes + 16' })
-  .refine((d) => d.matrix.rows === d.keysPerColumn * d.keyBits, { error: 'details: expected matrix.rows = keysPerColumn * keyBits' });
+  .check(z.refine((d) => d.sealedRecordBytes === d.recordBytes + 16, { error: 'details: expected sealedRecordBytes = recordBytes + 16' }))
+  .check(z.refine((d) => d.matrix.rows === d.keysPerColumn * d.keyBits, { error: 'details: expected matrix.rows = keysPerColumn * keyBits' }));
 export type Details = z.infer<typeof DetailsSchema>;
 /**
  * The partition matrix of a veiled layout: one padded record per coarse cell, cellsPerColumn
@@ -143,9 +144,9 @@ export const PartitionMatrixSchema = z.object({
   rows: count,
   columns: count,
   cellsPerColumn: count,
-  ones: z.number().int().min(0),
+  ones: z.int().check(z.minimum(0)),
   plan: PlanRecordSchema,
-  contentHash: z.string().regex(/^[0-9a-f]{64}$/),
+  contentHash: z.string().check(z.regex(/^[0-9a-f]{64}$/)),
 });
 export type PartitionMatrix = z.infer<typeof PartitionMatrixSchema>;
 
@@ -153,47 +154,47 @@ export const ManifestSchema = z
   .object({
     format: z.literal('nearveil-manifest'),
     formatVersion: z.literal(1),
-    dataset: z.string().min(1),
-    version: z.number().int().min(1),
+    dataset: z.string().check(z.minLength(1)),
+    version: z.int().check(z.minimum(1)),
     siteCount: count,
     contentHash: sha256,
-    modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).min(1),
+    modulusBits: z.array(z.union([z.literal(2048), z.literal(3072)])).check(z.minLength(1)),
     layout: LayoutSchema,
     /** Largest k the candidate lists serve (k nearest); absent in older manifests, meaning 1. */
-    maxK: z.number().int().min(1).max(MAX_K).default(1),
+    maxK: z._default(z.int().check(z.minimum(1), z.maximum(MAX_K)), 1),
     record: RecordSchema,
-    matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.number().int().min(0), plan: PlanRecordSchema }),
-    siteIds: z.array(z.string().min(1)),
+    matrix: z.object({ rows: count, columns: count, regionsPerColumn: count, ones: z.int().check(z.minimum(0)), plan: PlanRecordSchema }),
+    siteIds: z.array(z.string().check(z.minLength(1))),
     /** Absent on versions built without details (before they existed, or by `nearveil plan`). */
-    details: DetailsSchema.optional(),
-    partition: PartitionMatrixSchema.optional(),
+    details: z.optional(DetailsSchema),
+    partition: z.optional(PartitionMatrixSchema),
     /** Adaptive layouts only (the others' boxes are in their layout); absent in older manifests. */
-    coverage: CoverageSchema.optional(),
+    coverage: z.optional(CoverageSchema),
   })
-  .refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' })
-  .refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to hold site index + 1' })
-  .refine((m) => m.matrix.rows === m.matrix.regionsPerColumn * m.record.regionBits, {
+  .check(z.refine((m) => m.siteIds.length === m.siteCount, { error: 'manifest: expected one site id per site' }))
+  .check(z.refine((m) => 2 ** m.record.indexBits >= m.siteCount + 1, { error: 'manifest: expected indexBits to hold site index + 1' }))
+  .check(z.refine((m) => m.matrix.rows === m.matrix.regionsPerColumn * m.record.regionBits, {
     error: 'manifest: expected matrix.rows = regionsPerColumn * regionBits',
-  })
-  .refine((m) => m.matrix.columns === Math.ceil(regionCount(m.layout) / m.matrix.regionsPerColumn), {
+  }))
+  .check(z.refine((m) => m.matrix.columns === Math.ceil(regionCount(m.layout) / m.matrix.regionsPerColumn), {
     error: 'manifest: expected matrix.columns = ceil(regions / regionsPerColumn)',
-  })
-  .refine((m) => !m.details || m.details.matrix.columns === Math.ceil(m.siteCount / m.details.keysPerColumn), {
+  }))
+  .check(z.refine((m) => !m.details || m.details.matrix.columns === Math.ceil(m.siteCount / m.details.keysPerColumn), {
     error: 'manifest: expected details.matrix.columns = ceil(siteCount / keysPerColumn)',
-  })
-  .refine((m) => !m.details || m.details.sealedBytes === 12 + m.siteCount * m.details.sealedRecordBytes, {
+  }))
+  .check(z.refine((m) => !m.details || m.details.sealedBytes === 12 + m.siteCount * m.details.sealedRecordBytes, {
     error: 'manifest: expected details.sealedBytes = 12 + siteCount * sealedRecordBytes',
-  })
-  .refine((m) => m.coverage === undefined || m.layout.kind === 'kd', { error: 'manifest: expected coverage only on an adaptive (kd) layout' })
-  .refine((m) => (m.layout.kind === 'veiled') === (m.partition !== undefined), {
+  }))
+  .check(z.refine((m) => m.coverage === undefined || m.layout.kind === 'kd', { error: 'manifest: expected coverage only on an adaptive (kd) layout' }))
+  .check(z.refine((m) => (m.layout.kind === 'veiled') === (m.partition !== undefined), {
     error: 'manifest: expected a partition matrix exactly when the layout is veiled',
-  })
-  .refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.rows === m.partition.cellsPerColumn * m.layout.partitionBits, {
+  }))
+  .check(z.refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.rows === m.partition.cellsPerColumn * m.layout.partitionBits, {
     error: 'manifest: expected partition.rows = cellsPerColumn * partitionBits',
-  })
-  .refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.columns === Math.ceil(coarseCellCount(m.layout) / m.partition.cellsPerColumn), {
+  }))
+  .check(z.refine((m) => m.layout.kind !== 'veiled' || !m.partition || m.partition.columns === Math.ceil(coarseCellCount(m.layout) / m.partition.cellsPerColumn), {
     error: 'manifest: expected partition.columns = ceil(coarse cells / cellsPerColumn)',
-  });
+  }));
 
 export type Manifest = z.infer<typeof ManifestSchema>;
 
