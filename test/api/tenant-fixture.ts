@@ -3,7 +3,9 @@ import { exports } from 'cloudflare:workers';
 import { hashSecret, newSecret } from '../../api/auth/secrets.ts';
 import { proveModulus } from '../../core/modulus-proof/prove-modulus.ts';
 import { generateKeyPair, type GenerateKeyPairOptions, type PirKeyPair } from '../../core/pir/keys.ts';
-import { encodeModulusProof } from '../../core/pir/wire.ts';
+import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
+import { makeQuery } from '../../core/pir/query.ts';
+import { encodeModulusProof, encodeQuery } from '../../core/pir/wire.ts';
 
 export const BASE = 'http://nearveil.test';
 
@@ -112,4 +114,23 @@ export async function registerKey(t: TestTenant, key: PirKeyPair): Promise<PirKe
 /** A new client key whose modulus the server answers (generated, proven, registered). */
 export async function registeredKey(t: TestTenant, options: GenerateKeyPairOptions = {}): Promise<PirKeyPair> {
   return registerKey(t, await generateKeyPair({ modulusBits: 2048, ...options }));
+}
+
+/**
+ * A published dataset, a registered client key and an API key with a monthly quota of one
+ * query: what the quota tests start from. `query()` posts one fresh query with that API key.
+ */
+export async function oneQueryAMonth(t: TestTenant, slug: string, csv: string) {
+  await publishDataset(t, slug, csv);
+  const pir = await registeredKey(t);
+  const manifest: Manifest = ManifestSchema.parse(await (await appRequest(t, 'GET', `/v1/datasets/${slug}/manifest`)).json());
+  const made = await adminRequest(t, 'POST', '/v1/admin/keys', JSON.stringify({ label: 'one a month', monthlyQuota: 1 }), 'application/json');
+  const { secret, id: keyId } = (await made.json()) as { secret: string; id: string };
+  const query = () =>
+    worker(`${BASE}/v1/datasets/${slug}/versions/${manifest.version}/query`, {
+      method: 'POST',
+      headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/octet-stream' },
+      body: encodeQuery(pir.n, makeQuery(pir, manifest.matrix.columns, 0)),
+    });
+  return { manifest, keyId, query };
 }

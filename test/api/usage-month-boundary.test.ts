@@ -1,12 +1,8 @@
 import { env } from 'cloudflare:test';
 import { afterEach, beforeAll, describe, expect, it, vi } from 'vitest';
 import { secondsToNextMonth, utcDay, utcMonth } from '../../api/metering/calendar.ts';
-import { ManifestSchema, type Manifest } from '../../core/geo/manifest.ts';
-import type { PirKeyPair } from '../../core/pir/keys.ts';
-import { makeQuery } from '../../core/pir/query.ts';
-import { encodeQuery } from '../../core/pir/wire.ts';
 import { tinyZipCsv } from './open-data-sites.ts';
-import { adminRequest, appRequest, BASE, createTestTenant, publishDataset, registeredKey, worker, type TestTenant } from './tenant-fixture.ts';
+import { adminRequest, createTestTenant, oneQueryAMonth, type TestTenant } from './tenant-fixture.ts';
 
 // The last millisecond of November 2026 and the first of December, UTC (ISO 8601; the Gregorian
 // calendar gives November 30 days, from memory). Before today, so the key's registration is live.
@@ -28,18 +24,11 @@ interface UsageBody {
 // On a shared 2-core machine the slowest test measured 1.3 s; the limit is about twice that.
 describe('usage and quotas at a month boundary (UTC)', { timeout: 3_000 }, () => {
   let t: TestTenant;
-  let pir: PirKeyPair;
-  let manifest: Manifest;
-  let secret: string;
-  let keyId: string;
+  let fixture: Awaited<ReturnType<typeof oneQueryAMonth>>;
 
   beforeAll(async () => {
     t = await createTestTenant();
-    await publishDataset(t, 'boundary', tinyZipCsv(6));
-    pir = await registeredKey(t);
-    manifest = ManifestSchema.parse(await (await appRequest(t, 'GET', '/v1/datasets/boundary/manifest')).json());
-    const made = await adminRequest(t, 'POST', '/v1/admin/keys', JSON.stringify({ label: 'one a month', monthlyQuota: 1 }), 'application/json');
-    ({ secret, id: keyId } = (await made.json()) as { secret: string; id: string });
+    fixture = await oneQueryAMonth(t, 'boundary', tinyZipCsv(6));
   });
   afterEach(() => vi.useRealTimers());
 
@@ -48,11 +37,7 @@ describe('usage and quotas at a month boundary (UTC)', { timeout: 3_000 }, () =>
     vi.useFakeTimers({ toFake: ['Date'] });
     vi.setSystemTime(new Date(iso));
     try {
-      return await worker(`${BASE}/v1/datasets/boundary/versions/${manifest.version}/query`, {
-        method: 'POST',
-        headers: { authorization: `Bearer ${secret}`, 'content-type': 'application/octet-stream' },
-        body: encodeQuery(pir.n, makeQuery(pir, manifest.matrix.columns, 0)),
-      });
+      return await fixture.query();
     } finally {
       vi.useRealTimers();
     }
@@ -74,12 +59,12 @@ describe('usage and quotas at a month boundary (UTC)', { timeout: 3_000 }, () =>
     // RFC 9110 10.2.3 delay-seconds, to 2027-01-01T00:00Z: 31 days less a millisecond, rounded up.
     expect(over.headers.get('retry-after')).toBe(String(31 * 86_400));
 
-    const days = await env.DB.prepare('SELECT day, queries FROM usage_daily WHERE credential_id = ? ORDER BY day').bind(keyId).all();
+    const days = await env.DB.prepare('SELECT day, queries FROM usage_daily WHERE credential_id = ? ORDER BY day').bind(fixture.keyId).all();
     expect(days.results).toEqual([
       { day: '2026-11-30', queries: 1 },
       { day: '2026-12-01', queries: 1 },
     ]);
-    const slots = await env.DB.prepare('SELECT month, queries FROM key_months WHERE credential_id = ? ORDER BY month').bind(keyId).all();
+    const slots = await env.DB.prepare('SELECT month, queries FROM key_months WHERE credential_id = ? ORDER BY month').bind(fixture.keyId).all();
     expect(slots.results).toEqual([
       { month: '2026-11', queries: 1 },
       { month: '2026-12', queries: 1 },
