@@ -4,6 +4,7 @@ import { database } from '../db/client.ts';
 import { credentials, tenants } from '../db/schema.ts';
 import type { AppBindings } from '../env.ts';
 import { ApiError } from '../http/api-error.ts';
+import { enforceKeyKind } from './browser-keys.ts';
 import { parseKeyScope } from './key-scope.ts';
 import { hashSecret, SECRET_PREFIX } from './secrets.ts';
 
@@ -14,6 +15,9 @@ export interface CredentialRow {
   label: string;
   datasetScope: string | null;
   monthlyQuota: number | null;
+  /** Browser keys: their origins (JSON) and per-client rate; null for server keys and admin tokens. */
+  origins: string | null;
+  requestsPerMinute: number | null;
 }
 
 /**
@@ -38,6 +42,8 @@ export async function bearerCredential(c: Context<AppBindings>, kind: 'admin' | 
       revokedAt: credentials.revokedAt,
       datasetScope: credentials.datasetScope,
       monthlyQuota: credentials.monthlyQuota,
+      origins: credentials.origins,
+      requestsPerMinute: credentials.requestsPerMinute,
     })
     .from(credentials)
     .innerJoin(tenants, eq(tenants.id, credentials.tenantId))
@@ -53,6 +59,7 @@ export async function bearerCredential(c: Context<AppBindings>, kind: 'admin' | 
 export function requireCredential(kind: 'admin' | 'query'): MiddlewareHandler<AppBindings> {
   return async function credentialCheck(c, next) {
     const row = await bearerCredential(c, kind);
+    if (kind === 'query') await enforceKeyKind(c, row);
     c.set('tenantId', row.tenantId);
     c.set('credentialId', row.id);
     c.set('keyScope', parseKeyScope(row.datasetScope));

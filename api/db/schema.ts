@@ -26,7 +26,45 @@ export const credentials = sqliteTable('credentials', {
   datasetScope: text('dataset_scope'),
   /** API keys only: most answered queries per UTC calendar month; null means no limit. */
   monthlyQuota: integer('monthly_quota'),
+  /**
+   * Browser keys only (api/auth/browser-keys.ts): JSON array of the exact origins whose pages may
+   * use the key; null for a server key, which no browser page may use across origins.
+   */
+  origins: text('origins'),
+  /** Browser keys only: requests one client (address) may make per minute with the key. */
+  requestsPerMinute: integer('requests_per_minute'),
+  /**
+   * Browser keys only: the secret itself. A browser key is public by design (it sits in the source
+   * of every page that uses it), so the console can show it again and the finder page embeds it.
+   */
+  publicSecret: text('public_secret'),
 });
+
+/** Each browser key's origins, one row each, so a CORS preflight finds its origin by index. */
+export const keyOrigins = sqliteTable(
+  'key_origins',
+  {
+    credentialId: text('credential_id').notNull().references(() => credentials.id),
+    origin: text('origin').notNull(),
+  },
+  (t) => [primaryKey({ columns: [t.credentialId, t.origin] }), index('key_origins_origin').on(t.origin)],
+);
+
+/**
+ * Requests per browser key, client and minute, for the per-client rate limit. The client is a
+ * SHA-256 of the key id, the minute and the client's address, so rows of different minutes do
+ * not link; the sweep deletes rows older than ten minutes.
+ */
+export const clientMinutes = sqliteTable(
+  'client_minutes',
+  {
+    credentialId: text('credential_id').notNull().references(() => credentials.id),
+    clientHash: text('client_hash').notNull(),
+    minute: integer('minute').notNull(),
+    requests: integer('requests').notNull().default(0),
+  },
+  (t) => [primaryKey({ columns: [t.credentialId, t.clientHash, t.minute] }), index('client_minutes_minute').on(t.minute)],
+);
 
 /**
  * Answered queries per API key and UTC month, the counter quotas are checked against. A query
@@ -59,6 +97,10 @@ export const datasets = sqliteTable(
     deletedAt: text('deleted_at'),
     /** Set by the sweep once every blob of a deleted dataset was collected (null: some remain). */
     blobsCollectedAt: text('blobs_collected_at'),
+    /** The browser key of the dataset's finder page (api/finder/); null: the page is off. */
+    finderKeyId: text('finder_key_id'),
+    /** JSON array of origins whose pages may embed the finder page in a frame; null or []: none but its own. */
+    finderFrameOrigins: text('finder_frame_origins'),
   },
   (t) => [uniqueIndex('datasets_tenant_slug').on(t.tenantId, t.slug)],
 );

@@ -1,5 +1,5 @@
 import { Hono } from 'hono';
-import { cors } from 'hono/cors';
+import { browserPreflight } from '../auth/browser-keys.ts';
 import { modulusFingerprint } from '../../core/modulus-proof/fingerprint.ts';
 import { PROOF_CHALLENGES } from '../../core/modulus-proof/modulus-proof.ts';
 import { verifyModulusProof } from '../../core/modulus-proof/verify-modulus.ts';
@@ -33,7 +33,7 @@ function modulusView(row: ProvenModulus) {
  * by fingerprint (201). A refused proof is counted among the key's refusals, never billed.
  */
 export const modulusRoutes = new Hono<AppBindings>()
-  .use('/moduli', cors({ origin: '*', exposeHeaders: ['Server-Timing'], maxAge: 600 }))
+  .use('/moduli', browserPreflight())
   .use('/moduli', requireCredential('query'))
   .post('/moduli', countRejections(), async (c) => {
     const body = await readLimitedBytes(c.req.raw, LARGEST_PROOF);

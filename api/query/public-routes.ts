@@ -1,5 +1,5 @@
 import { Hono } from 'hono';
-import { cors } from 'hono/cors';
+import { browserPreflight } from '../auth/browser-keys.ts';
 import type { Manifest } from '../../core/geo/manifest.ts';
 import { assertKeyScope } from '../auth/key-scope.ts';
 import { requireCredential } from '../auth/require-credential.ts';
@@ -15,8 +15,9 @@ import { answerColumnQuery } from './answer-column.ts';
 import { loadManifest } from './version-cache.ts';
 
 export const publicRoutes = new Hono<AppBindings>()
-  // Apps in browsers call these routes; Server-Timing and ETag must be readable by them.
-  .use('/datasets/*', cors({ origin: '*', exposeHeaders: ['Server-Timing', 'X-Nearveil-Multiplications', 'ETag'], maxAge: 600 }))
+  // Pages call these routes with browser keys only: preflights from unlisted origins are refused
+  // (api/auth/browser-keys.ts), and the key's own origins are checked on the request.
+  .use('/datasets/*', browserPreflight())
   .use('/datasets/*', requireCredential('query'))
   .get('/datasets/:dataset/manifest', async (c) => {
     const db = database(c.env);

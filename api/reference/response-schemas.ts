@@ -110,6 +110,10 @@ export const ApiKey = z
     usedThisMonth: z.number().int(),
     createdAt: z.string(),
     revokedAt: z.string().nullable(),
+    kind: z.enum(['server', 'browser']).describe('server: kept secret by an app server; browser: public, bound to its origins and a per-client rate'),
+    origins: z.array(z.string()).optional().describe('browser keys: the exact origins whose pages may use the key'),
+    requestsPerMinute: z.number().int().optional().describe('browser keys: requests per minute one client address may make'),
+    secret: z.string().optional().describe('browser keys while not revoked: the key itself (public by design)'),
   })
   .meta({ id: 'ApiKey' });
 
@@ -150,6 +154,9 @@ export const UsageReport = z
     month: z.string(),
     totals: z.object(usageCounts),
     days: z.array(z.object({ day: z.string(), ...usageCounts })),
+    refusals: z
+      .array(z.object({ reason: z.string(), keyId: z.string(), keyLabel: z.string(), count: z.number().int() }))
+      .describe('refused requests of the month by refusal code and API key, most first (never billed)'),
   })
   .meta({ id: 'UsageReport' });
 

@@ -1,7 +1,7 @@
 import { z } from 'zod';
 import { LAYOUT_CHOICES } from '../../core/build/choose-layout.ts';
 import { CreateTenantBody, CreateUserBody, UpdateUserBody } from '../accounts/account-schemas.ts';
-import { CreateKeyBody } from '../auth/key-routes.ts';
+import { CreateKeyBody, UpdateBrowserKeyBody } from '../auth/key-routes.ts';
 import { ChangePasswordBody } from '../auth/password-routes.ts';
 import { SignInBody } from '../auth/session-routes.ts';
 import { CreateDatasetBody } from '../datasets/admin-routes.ts';
@@ -61,6 +61,7 @@ export const ROUTE_DOCS: RouteDoc[] = [
   { method: 'get', path: '/v1/admin/datasets/{dataset}/versions/{version}/manifest', tag: 'Datasets', summary: "A built version's manifest, active or not (for the console's map and cost)", access: 'tenant_editor', query: tenantQuery, ok: { status: 200, description: 'the manifest (core/geo/MANIFEST.md)' }, errors: [...AUTH, 'invalid_dataset', 'invalid_version', 'dataset_unknown', 'dataset_deleted', 'version_unknown', 'version_state', 'manifest_gone'] },
   { method: 'post', path: '/v1/admin/keys', tag: 'API keys', summary: 'Make an API key (the secret is shown once)', access: 'tenant_admin', query: tenantQuery, body: json(CreateKeyBody), ok: { status: 201, description: 'the key and its secret', schema: ApiKey.extend({ secret: z.string() }) }, errors: [...AUTH, ...JSON_BODY, 'dataset_unknown'] },
   { method: 'get', path: '/v1/admin/keys', tag: 'API keys', summary: "List the tenant's API keys", access: 'tenant_admin', query: tenantQuery, ok: { status: 200, description: 'the keys, without secrets', schema: z.object({ keys: z.array(ApiKey) }) }, errors: AUTH },
+  { method: 'patch', path: '/v1/admin/keys/{id}', tag: 'API keys', summary: "Change a browser key's origins or per-client rate", access: 'tenant_admin', query: tenantQuery, body: json(UpdateBrowserKeyBody), ok: { status: 200, description: 'the key', schema: ApiKey }, errors: [...AUTH, ...JSON_BODY, 'key_unknown', 'key_not_browser', 'key_revoked'] },
   { method: 'post', path: '/v1/admin/keys/{id}/revoke', tag: 'API keys', summary: 'Revoke an API key', access: 'tenant_admin', query: tenantQuery, ok: { status: 200, description: 'revoked', schema: z.object({ id: z.string(), revokedAt: z.string() }) }, errors: [...AUTH, 'key_unknown'] },
 
   { method: 'get', path: '/v1/admin/usage', tag: 'Usage', summary: 'Answered and refused queries of a month, per day and in total', access: 'tenant_editor', query: tenantQuery.extend({ dataset: z.string().optional(), month: z.string().optional().describe('YYYY-MM, default this UTC month') }), ok: { status: 200, description: 'the usage', schema: UsageReport }, errors: [...AUTH, 'invalid_month', 'invalid_dataset', 'dataset_unknown'] },

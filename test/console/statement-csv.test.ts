@@ -10,7 +10,7 @@ import { readCsv } from '../../core/geo/csv.ts';
 
 function statement(currency: string, tariff: Omit<Tariff, 'fromMonth'>, totals: { queries: number; bytesIn: number; bytesOut: number; multiplications: number }) {
   const counts = { rejected: 2, ...totals };
-  return buildStatement('orrin-shelters', currency, { fromMonth: '2026-12', ...tariff }, { month: '2026-12', totals: counts, days: [{ day: '2026-12-01', ...counts }] });
+  return buildStatement('orrin-shelters', currency, { fromMonth: '2026-12', ...tariff }, { month: '2026-12', totals: counts, days: [{ day: '2026-12-01', ...counts }], refusals: [] });
 }
 
 /** Reads a CSV back cell by cell (RFC 4180) and checks it holds one table: every row as wide as its header. */

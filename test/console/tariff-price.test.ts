@@ -9,7 +9,7 @@ const tariff = { fromMonth: '2026-12', queryMicros: 1_500, gbMicros: 90_000, mil
 
 function statementFor(queries: number, up: number, down: number, products: number) {
   const counts = { queries, rejected: 0, bytesIn: queries * up, bytesOut: queries * down, multiplications: queries * products };
-  return buildStatement('demo', 'EUR', tariff, { month: '2026-12', totals: counts, days: [{ day: '2026-12-01', ...counts }] });
+  return buildStatement('demo', 'EUR', tariff, { month: '2026-12', totals: counts, days: [{ day: '2026-12-01', ...counts }], refusals: [] });
 }
 
 describe('the price per query shown in the console', () => {
