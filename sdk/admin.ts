@@ -76,6 +76,23 @@ export interface ApiKeyInfo {
   usedThisMonth: number;
   createdAt: string;
   revokedAt: string | null;
+  /** server: kept secret by an app's server; browser: public, for web pages of `origins` only. */
+  kind: 'server' | 'browser';
+  origins?: string[];
+  /** Browser keys: requests one client address may make per minute. */
+  requestsPerMinute?: number;
+  /** Browser keys while not revoked: the key itself (public by design). */
+  secret?: string;
+}
+
+export interface NewApiKey {
+  label: string;
+  datasets?: string[];
+  monthlyQuota?: number;
+  /** 'browser' needs `origins`: the exact origins (https://host[:port]) whose pages may use it. */
+  kind?: 'server' | 'browser';
+  origins?: string[];
+  requestsPerMinute?: number;
 }
 
 export interface UsageCounts {
@@ -92,6 +109,8 @@ export interface UsageReport {
   month: string;
   totals: UsageCounts;
   days: Array<{ day: string } & UsageCounts>;
+  /** The month's refusals by reason (refusal code) and API key, most first. */
+  refusals: Array<{ reason: string; keyId: string; keyLabel: string; count: number }>;
 }
 
 /** `?a=1&b=2` from the defined entries, or '' when there are none. */
@@ -170,8 +189,10 @@ export function connectAdmin(options: AdminOptions) {
     rollback: (dataset: string, toVersion?: number) =>
       json<Switched>('POST', `v1/admin/datasets/${encodeURIComponent(dataset)}/rollback`, toVersion === undefined ? {} : { toVersion }),
     versions: (dataset: string) => json<{ dataset: string; activeVersion: number | null; versions: VersionInfo[] }>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/versions`),
-    /** A new API key; `secret` is shown this once. `datasets` limits it to those slugs. */
-    createApiKey: (key: { label: string; datasets?: string[]; monthlyQuota?: number }) => json<ApiKeyInfo & { secret: string }>('POST', 'v1/admin/keys', key),
+    /** A new API key; a server key's `secret` is shown this once. `datasets` limits it to those slugs. */
+    createApiKey: (key: NewApiKey) => json<ApiKeyInfo & { secret: string }>('POST', 'v1/admin/keys', key),
+    /** A browser key's new origins or per-client rate. */
+    updateBrowserKey: (id: string, change: { origins?: string[]; requestsPerMinute?: number }) => json<ApiKeyInfo>('PATCH', `v1/admin/keys/${encodeURIComponent(id)}`, change),
     apiKeys: () => json<{ keys: ApiKeyInfo[] }>('GET', 'v1/admin/keys'),
     /** Usage of a UTC month (default: the current one), per day and in total. `tenant` is for the operator. */
     usage: (filter: { tenant?: string; dataset?: string; month?: string } = {}) => json<UsageReport>('GET', `v1/admin/usage${queryString(filter)}`),

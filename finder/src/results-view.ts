@@ -32,7 +32,7 @@ function siteItem(site: NearestSite, position: number): HTMLElement {
   const headingId = `site-${position + 1}`;
   return el(
     'li',
-    { class: 'site', 'aria-labelledby': headingId },
+    { class: 'site', 'aria-labelledby': headingId, 'data-site-id': site.id },
     el('h3', { id: headingId }, title),
     el('p', { class: 'site-distance' }, `${distanceText(site.distanceMeters)} away in a straight line`),
     fields.length > 0 ? el('dl', { class: 'site-fields' }, ...fields.flatMap(([term, value]) => [el('dt', {}, term), el('dd', {}, value)])) : null,

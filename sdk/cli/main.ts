@@ -6,6 +6,7 @@ import { CliError } from './cli-error.ts';
 import { datasetHints } from './dataset-suggestion.ts';
 import { DATASET_HELP, datasetCommand } from './commands/dataset-lifecycle.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
+import { KEY_HELP, keyCommand } from './commands/keys.ts';
 import { OPERATOR_HELP, operatorCommand } from './commands/operator.ts';
 import { PLAN_HELP, planCommand } from './commands/plan.ts';
 import { QUERY_HELP, queryCommand } from './commands/query.ts';
@@ -27,6 +28,8 @@ ${DATASET_HELP}
 
 ${USAGE_HELP}
 
+${KEY_HELP}
+
 ${OPERATOR_HELP}
 
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
@@ -40,6 +43,7 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   rollback: rollbackCommand,
   dataset: datasetCommand,
   usage: usageCommand,
+  key: keyCommand,
   operator: operatorCommand,
 };
 

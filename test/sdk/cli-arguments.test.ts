@@ -31,6 +31,18 @@ describe('nearveil command line', () => {
     expect(await run(['import', 'a.csv', '--dataset', 'Bad Slug'])).toMatchObject({ code: 2, err: expect.stringMatching(/--dataset: use 1-63 lowercase/) });
   });
 
+  it('checks browser key flags before asking the server: exact origins, --browser, a rate in range', async () => {
+    expect(await run(['key', 'create', '--browser', '--label', 'page', '--origin', 'https://finder.example/clinics'])).toMatchObject({
+      code: 2,
+      err: 'nearveil: --origin: expected an exact origin such as https://finder.example (scheme and host, no path or trailing slash), got "https://finder.example/clinics"; did you mean https://finder.example?',
+    });
+    expect(await run(['key', 'create', '--browser', '--label', 'page'])).toMatchObject({ code: 2, err: expect.stringMatching(/--browser: name at least one --origin/) });
+    expect(await run(['key', 'create', '--label', 'page', '--origin', 'https://finder.example'])).toMatchObject({ code: 2, err: expect.stringMatching(/--origin and --rate are for browser keys; add --browser/) });
+    expect(await run(['key', 'create', '--browser', '--label', 'p', '--origin', 'https://finder.example', '--rate', '0'])).toMatchObject({ code: 2, err: expect.stringMatching(/--rate: expected a whole number from 1 to 10000, got "0"/) });
+    expect(await run(['key', 'make'])).toMatchObject({ code: 2, err: expect.stringMatching(/key: expected one of .*nearveil key list/) });
+    expect(await run(['key', 'origins', '--id', 'k1'])).toMatchObject({ code: 2, err: expect.stringMatching(/name the new origins with --origin/) });
+  });
+
   it('checks --k and --max-k: a whole number from 1 to 8, named in the message', async () => {
     expect(integerFlag(undefined, '--k', 1, 8, 1)).toBe(1);
     expect(integerFlag('8', '--max-k', 1, 8, 1)).toBe(8);

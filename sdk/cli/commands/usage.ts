@@ -6,11 +6,12 @@ import { connectionOptions, parseCommand, requireString, resolveConnection } fro
 
 export const USAGE_HELP = `nearveil usage [--dataset SLUG] [--month YYYY-MM] [--tenant SLUG] [--email ADDRESS] [--json]
   Answered and refused queries, bytes in and out and server multiplications of a UTC month
-  (default: this month), per day and in total. Refused queries are counted apart, never billed.
+  (default: this month), per day and in total. Refused queries are counted apart, never billed,
+  and listed by reason (quota_exceeded, rate_limited, origin_not_allowed, ...) and key.
   --tenant SLUG      another tenant's usage (the operator only, signed in with --email)
   --email ADDRESS    sign in as this person (password from NEARVEIL_PASSWORD) instead of the admin token
   --json             print one object: month, the totals queries, rejected, bytesIn, bytesOut,
-                     multiplications (also under "totals"), and days
+                     multiplications (also under "totals"), days, and refusals (by reason and key)
   NEARVEIL_ENDPOINT, NEARVEIL_TOKEN   override the dev credentials (the token is the tenant admin's)
   --endpoint URL, --token TOKEN       the same as flags (a token on a command line is visible to others: prefer the variable)`;
 
@@ -36,7 +37,7 @@ export async function usageCommand(args: string[], print: (line: string) => void
   const query = { tenant: values.tenant, dataset: values.dataset, month: values.month };
   const report = values.email === undefined ? await usageByToken(conn, query) : await usageSignedIn(conn.endpoint, values.email, query);
   if (values.json) {
-    print(JSON.stringify({ tenant: report.tenant, dataset: report.dataset, month: report.month, ...report.totals, totals: report.totals, days: report.days }));
+    print(JSON.stringify({ tenant: report.tenant, dataset: report.dataset, month: report.month, ...report.totals, totals: report.totals, days: report.days, refusals: report.refusals }));
     return;
   }
   const t = report.totals;
@@ -44,6 +45,10 @@ export async function usageCommand(args: string[], print: (line: string) => void
   print(`  ${t.queries} answered queries, ${t.rejected} refused (not billed)`);
   print(`  ${t.bytesIn} bytes in, ${t.bytesOut} bytes out, ${t.multiplications} server multiplications`);
   for (const d of report.days) print(`  ${d.day}: ${d.queries} answered, ${d.rejected} refused, ${d.bytesIn + d.bytesOut} bytes, ${d.multiplications} products`);
+  if (report.refusals.length > 0) {
+    print('  Refused, by reason and key:');
+    for (const r of report.refusals) print(`    ${r.reason}: ${r.count} (key "${r.keyLabel}", ${r.keyId})`);
+  }
 }
 
 type UsageQuery = Parameters<ReturnType<typeof connectAdmin>['usage']>[0];
