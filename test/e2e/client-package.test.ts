@@ -38,6 +38,8 @@ const POINTS: Array<[number, number]> = [
 let product: ProductServer;
 let installed: InstalledClientPackage;
 let credentials: { apiKey: string; adminToken: string };
+/** The browser key the trial page uses (made for its origin in the Chromium test). */
+let pageKey = '';
 
 function nearveilCli(command: string, cwd: string, lat: number, lon: number): string {
   const run = spawnSync(command === 'npx' ? 'npx' : command, [...(command === 'npx' ? ['nearveil'] : []), 'query', '--dataset', DATASET, '--lat', String(lat), '--lon', String(lon), '--json'], {
@@ -166,6 +168,12 @@ console.log(JSON.stringify({ answers, storeError, activeVersion }));
     expect(buildSize).toMatch(/\d+\.\d KB min\+gzip/);
     const figures: Record<string, unknown> = { buildSize, pageBundleMinBytes: Buffer.byteLength(code), pageBundleGzipBytes: gzipSync(code).length };
     const site = await serveFolder(page.outDir);
+    // A page carries a browser key bound to its origin, made here as a provider would: `nearveil key create --browser`.
+    const made = spawnSync(process.execPath, [join(ROOT, 'sdk/cli/bin.mjs'), 'key', 'create', '--browser', '--origin', site.origin, '--label', 'trial page', '--json'], { env: product.env, encoding: 'utf8', timeout: 120_000 });
+    expect(made.status, made.stderr).toBe(0);
+    const browserKey = (JSON.parse(made.stdout) as { kind: string; secret: string; origins: string[] });
+    expect(browserKey).toMatchObject({ kind: 'browser', origins: [site.origin] });
+    pageKey = browserKey.secret;
     const browser = await launchBrowser();
     try {
       const tab = await browser.context.newPage();
@@ -199,7 +207,7 @@ console.log(JSON.stringify({ answers, storeError, activeVersion }));
       figures.afterReload = queryFigures(again);
 
       // forgetKey(): the record is gone, and the next query makes, proves and registers a new key.
-      await tab.evaluate(([endpoint, apiKey]) => (globalThis as unknown as TrialWindow).trial.forget(endpoint, apiKey), [product.base, credentials.apiKey] as const);
+      await tab.evaluate(([endpoint, apiKey]) => (globalThis as unknown as TrialWindow).trial.forget(endpoint, apiKey), [product.base, browserKey.secret] as const);
       expect(await storedModulus(tab)).toBeNull();
       const fresh = await nearestIn(tab, POINTS[4]!);
       expect(fresh.results[0]!.id).toBe(geokdbushNearest(SITES, ...POINTS[4]!).id);
@@ -241,7 +249,7 @@ interface TrialWindow {
 function nearestIn(tab: Page, [lat, lon]: [number, number]): Promise<TrialResult> {
   return tab.evaluate(
     ([endpoint, apiKey, dataset, lat, lon]) => (globalThis as unknown as TrialWindow).trial.nearest(endpoint, apiKey, dataset, { lat, lon }),
-    [product.base, credentials.apiKey, DATASET, lat, lon] as const,
+    [product.base, pageKey, DATASET, lat, lon] as const,
   );
 }
 
