@@ -12,6 +12,7 @@ import { datasetLifecycleRoutes } from './datasets/dataset-lifecycle-routes.ts';
 import { versionTableRoutes } from './datasets/version-table-routes.ts';
 import type { AppBindings } from './env.ts';
 import { errorBody, handleError } from './http/error-handler.ts';
+import { finderPageRoutes, finderSettingsRoutes } from './finder/finder-routes.ts';
 import { usageRoutes } from './metering/usage-routes.ts';
 import { modulusRoutes } from './moduli/modulus-routes.ts';
 import { publicRoutes } from './query/public-routes.ts';
@@ -23,12 +24,15 @@ export const app = new Hono<AppBindings>()
   // The admin console is served from static assets at /console/ (wrangler.toml [assets]).
   .get('/', (c) => c.redirect('/console/', 302))
   .route('/', referenceRoutes)
+  // The finder page a provider switched on (api/finder/); its script and style are static assets at /finder/.
+  .route('/', finderPageRoutes)
   .route('/v1', sessionRoutes)
   .route('/v1', passwordRoutes)
   .route('/v1/admin', adminDatasetRoutes)
   .route('/v1/admin', datasetLifecycleRoutes)
   .route('/v1/admin', versionTableRoutes)
   .route('/v1/admin', keyRoutes)
+  .route('/v1/admin', finderSettingsRoutes)
   .route('/v1/admin', usageRoutes)
   .route('/v1/admin', userRoutes)
   .route('/v1/admin', auditRoutes)

@@ -20,4 +20,5 @@ ALTER TABLE `credentials` ADD `origins` text;--> statement-breakpoint
 ALTER TABLE `credentials` ADD `requests_per_minute` integer;--> statement-breakpoint
 ALTER TABLE `credentials` ADD `public_secret` text;--> statement-breakpoint
 ALTER TABLE `datasets` ADD `finder_key_id` text;--> statement-breakpoint
-ALTER TABLE `datasets` ADD `finder_frame_origins` text;
+ALTER TABLE `datasets` ADD `finder_frame_origins` text;--> statement-breakpoint
+ALTER TABLE `datasets` ADD `finder_k` integer;

@@ -20,15 +20,21 @@ import { hashSecret } from './secrets.ts';
  * (2) and (3) exist.
  */
 
-/** Origins a browser key may list; each an exact serialized origin (RFC 6454): scheme, host, port. */
-export const OriginListSchema = z
+/** Up to 20 exact serialized origins (RFC 6454): scheme, host and port, nothing else. */
+export const OriginsSchema = z
   .array(
     z.string().refine(isExactOrigin, {
       message: 'expected an exact origin such as https://finder.example or http://127.0.0.1:5173 (http or https, no path, no trailing slash)',
     }),
   )
-  .min(1)
   .max(20);
+/** The origins a browser key lists: at least one. */
+export const OriginListSchema = OriginsSchema.min(1);
+/**
+ * Listed by the finder page's key (api/finder/finder-routes.ts) in place of an origin: pages of
+ * this server's own origin, whatever name it is reached by. Never accepted from a request body.
+ */
+export const SELF_ORIGIN = 'self';
 
 export const DEFAULT_REQUESTS_PER_MINUTE = 30;
 /** Rows of the rate limiter older than this are deleted by the cron sweep. */
@@ -86,7 +92,8 @@ export async function enforceKeyKind(c: Context<AppBindings>, key: BrowserKeyFie
   if (origin === null) {
     await refuse(new ApiError(403, 'origin_missing', 'a browser key is used from web pages only: the request carried no Origin header', 'origin'));
   }
-  if (!parseOrigins(key.origins).includes(origin!)) {
+  const listed = parseOrigins(key.origins);
+  if (!listed.includes(origin!) && !(listed.includes(SELF_ORIGIN) && origin === new URL(c.req.url).origin)) {
     await refuse(new ApiError(403, 'origin_not_allowed', `this browser key may be used by pages of its listed origins only, not ${origin}`, 'origin'));
   }
   allowOrigin(c, origin!);

@@ -101,6 +101,8 @@ export const datasets = sqliteTable(
     finderKeyId: text('finder_key_id'),
     /** JSON array of origins whose pages may embed the finder page in a frame; null or []: none but its own. */
     finderFrameOrigins: text('finder_frame_origins'),
+    /** Sites the finder page shows (null: 3), never more than the active version was built for. */
+    finderK: integer('finder_k'),
   },
   (t) => [uniqueIndex('datasets_tenant_slug').on(t.tenantId, t.slug)],
 );

@@ -117,6 +117,19 @@ export const ApiKey = z
   })
   .meta({ id: 'ApiKey' });
 
+export const FinderSettings = z
+  .object({
+    dataset: z.string(),
+    enabled: z.boolean(),
+    url: z.string().describe('the page: link to it or embed it'),
+    frameOrigins: z.array(z.string()).describe('origins whose pages may show it in a frame (CSP frame-ancestors)'),
+    k: z.number().int().describe('sites shown, nearest first (at most what the active version was built for)'),
+    requestsPerMinute: z.number().int().nullable().describe("requests per minute one visitor address may make with the page's key"),
+    keyId: z.string().nullable().describe("the page's browser key (listed with the API keys); null when off"),
+    embed: z.string().describe('an iframe tag that embeds the page, allowed to ask for the position'),
+  })
+  .meta({ id: 'FinderSettings' });
+
 export const User = z
   .object({
     id: z.string(),

@@ -5,8 +5,9 @@ import { CreateKeyBody, UpdateBrowserKeyBody } from '../auth/key-routes.ts';
 import { ChangePasswordBody } from '../auth/password-routes.ts';
 import { SignInBody } from '../auth/session-routes.ts';
 import { CreateDatasetBody } from '../datasets/admin-routes.ts';
+import { FinderSettingsBody } from '../finder/finder-routes.ts';
 import { DeleteDatasetBody, RenameDatasetBody } from '../datasets/dataset-lifecycle-routes.ts';
-import { ApiKey, AuditEvent, Dataset, DeletedDataset, ProvenModulus, SessionBody, Statement, Tariff, Tenant, UsageReport, User, Version } from './response-schemas.ts';
+import { ApiKey, AuditEvent, Dataset, DeletedDataset, FinderSettings, ProvenModulus, SessionBody, Statement, Tariff, Tenant, UsageReport, User, Version } from './response-schemas.ts';
 
 /** Who may call a route: nobody in particular, an API key, a role (admin token or session). */
 export type Access = 'public' | 'api_key' | 'session' | 'tenant_editor' | 'tenant_admin' | 'operator';
@@ -28,7 +29,7 @@ export interface RouteDoc {
 
 const tenantQuery = z.object({ tenant: z.string().optional().describe('operator only: the tenant to act on (slug)') });
 const AUTH = ['credential_missing', 'credential_wrong_kind', 'credential_unknown', 'credential_revoked', 'session_unknown', 'session_expired', 'user_disabled', 'csrf_missing', 'csrf_mismatch', 'role_forbidden', 'tenant_forbidden', 'tenant_required', 'tenant_unknown'];
-const API_KEY = ['credential_missing', 'credential_wrong_kind', 'credential_unknown', 'credential_revoked'];
+const API_KEY = ['credential_missing', 'credential_wrong_kind', 'credential_unknown', 'credential_revoked', 'origin_not_allowed', 'origin_missing', 'server_key_in_page', 'rate_limited'];
 const KEY = [...API_KEY, 'key_scope', 'invalid_dataset', 'dataset_unknown', 'dataset_deleted'];
 const JSON_BODY = ['invalid_json', 'invalid_body', 'body_too_large'];
 const json = (schema: z.ZodType) => ({ schema, contentType: 'application/json' });
@@ -37,6 +38,7 @@ const json = (schema: z.ZodType) => ({ schema, contentType: 'application/json' }
 export const ROUTE_DOCS: RouteDoc[] = [
   { method: 'get', path: '/', tag: 'Service', summary: 'Redirects to the admin console at /console/', access: 'public', ok: { status: 302, description: 'a redirect to /console/' }, errors: [] },
   { method: 'get', path: '/healthz', tag: 'Service', summary: 'Liveness check', access: 'public', ok: { status: 200, description: '{ ok: true }', schema: z.object({ ok: z.literal(true) }) }, errors: [] },
+  { method: 'get', path: '/find/{tenant}/{dataset}', tag: 'Finder page', summary: 'The finder page of a dataset whose admin switched it on (HTML)', description: 'Finds the nearest sites privately in the visitor\'s browser: the position stays on the device. 404 (a plain page) when the dataset is unknown, deleted, without an active version, or its page is off.', access: 'public', ok: { status: 200, description: 'the page', contentType: 'text/html' }, errors: [] },
   { method: 'get', path: '/openapi.json', tag: 'Service', summary: 'This OpenAPI 3.1 document', access: 'public', ok: { status: 200, description: 'the document' }, errors: [] },
   { method: 'get', path: '/reference', tag: 'Service', summary: 'The API reference as a web page', access: 'public', ok: { status: 200, description: 'HTML', contentType: 'text/html' }, errors: [] },
 
@@ -61,6 +63,8 @@ export const ROUTE_DOCS: RouteDoc[] = [
   { method: 'get', path: '/v1/admin/datasets/{dataset}/versions/{version}/manifest', tag: 'Datasets', summary: "A built version's manifest, active or not (for the console's map and cost)", access: 'tenant_editor', query: tenantQuery, ok: { status: 200, description: 'the manifest (core/geo/MANIFEST.md)' }, errors: [...AUTH, 'invalid_dataset', 'invalid_version', 'dataset_unknown', 'dataset_deleted', 'version_unknown', 'version_state', 'manifest_gone'] },
   { method: 'post', path: '/v1/admin/keys', tag: 'API keys', summary: 'Make an API key (the secret is shown once)', access: 'tenant_admin', query: tenantQuery, body: json(CreateKeyBody), ok: { status: 201, description: 'the key and its secret', schema: ApiKey.extend({ secret: z.string() }) }, errors: [...AUTH, ...JSON_BODY, 'dataset_unknown'] },
   { method: 'get', path: '/v1/admin/keys', tag: 'API keys', summary: "List the tenant's API keys", access: 'tenant_admin', query: tenantQuery, ok: { status: 200, description: 'the keys, without secrets', schema: z.object({ keys: z.array(ApiKey) }) }, errors: AUTH },
+  { method: 'get', path: '/v1/admin/datasets/{dataset}/finder', tag: 'Finder page', summary: "A dataset's finder page: on or off, its address, frame origins and embed code", access: 'tenant_admin', query: tenantQuery, ok: { status: 200, description: 'the settings', schema: FinderSettings }, errors: [...AUTH, 'invalid_dataset', 'dataset_unknown', 'dataset_deleted'] },
+  { method: 'put', path: '/v1/admin/datasets/{dataset}/finder', tag: 'Finder page', summary: 'Switch the finder page on or off, and set who may frame it, k and the per-visitor rate', description: 'On makes a browser key for this dataset alone, usable only by pages of this server; off revokes it.', access: 'tenant_admin', query: tenantQuery, body: json(FinderSettingsBody), ok: { status: 200, description: 'the settings', schema: FinderSettings }, errors: [...AUTH, ...JSON_BODY, 'invalid_dataset', 'dataset_unknown', 'dataset_deleted'] },
   { method: 'patch', path: '/v1/admin/keys/{id}', tag: 'API keys', summary: "Change a browser key's origins or per-client rate", access: 'tenant_admin', query: tenantQuery, body: json(UpdateBrowserKeyBody), ok: { status: 200, description: 'the key', schema: ApiKey }, errors: [...AUTH, ...JSON_BODY, 'key_unknown', 'key_not_browser', 'key_revoked'] },
   { method: 'post', path: '/v1/admin/keys/{id}/revoke', tag: 'API keys', summary: 'Revoke an API key', access: 'tenant_admin', query: tenantQuery, ok: { status: 200, description: 'revoked', schema: z.object({ id: z.string(), revokedAt: z.string() }) }, errors: [...AUTH, 'key_unknown'] },
 

@@ -88,7 +88,11 @@ describe('OpenAPI 3.1 document and reference page', () => {
         // redirect: 'manual', so the redirect at / is checked itself, not the page it points to.
         const res = await worker(`${BASE}${fill(path)}`, { method: method.toUpperCase(), headers, redirect: 'manual', ...(hasBody ? { body: '{}' } : {}) });
         const label = `${method.toUpperCase()} ${path} -> ${res.status}`;
-        if (res.status >= 400) {
+        if (res.status >= 400 && path.startsWith('/find/')) {
+          // The finder page is for people: an unknown or switched-off page is a plain HTML 404.
+          expect(res.headers.get('content-type'), label).toMatch(/^text\/html/);
+          expect(await res.text(), label).toContain('This finder page is not available');
+        } else if (res.status >= 400) {
           const body = (await res.json()) as { error: { code: string; message: string } };
           expect(body.error.code, label).not.toBe('route_unknown');
           expect(Object.keys(ERROR_CODES), label).toContain(body.error.code);
