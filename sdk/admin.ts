@@ -95,6 +95,21 @@ export interface NewApiKey {
   requestsPerMinute?: number;
 }
 
+/** A dataset's finder page (GET/PUT /v1/admin/datasets/:dataset/finder). */
+export interface FinderSettings {
+  dataset: string;
+  enabled: boolean;
+  /** The page: link to it, or embed it with `embed`. */
+  url: string;
+  /** Origins whose pages may show it in a frame. */
+  frameOrigins: string[];
+  k: number;
+  requestsPerMinute: number | null;
+  keyId: string | null;
+  /** An iframe tag that embeds the page and lets it ask for the position. */
+  embed: string;
+}
+
 export interface UsageCounts {
   queries: number;
   rejected: number;
@@ -194,6 +209,10 @@ export function connectAdmin(options: AdminOptions) {
     /** A browser key's new origins or per-client rate. */
     updateBrowserKey: (id: string, change: { origins?: string[]; requestsPerMinute?: number }) => json<ApiKeyInfo>('PATCH', `v1/admin/keys/${encodeURIComponent(id)}`, change),
     apiKeys: () => json<{ keys: ApiKeyInfo[] }>('GET', 'v1/admin/keys'),
+    finder: (dataset: string) => json<FinderSettings>('GET', `v1/admin/datasets/${encodeURIComponent(dataset)}/finder`),
+    /** Switches the dataset's finder page on or off; on makes its browser key, off revokes it. */
+    setFinder: (dataset: string, settings: { enabled: boolean; frameOrigins?: string[]; k?: number; requestsPerMinute?: number }) =>
+      json<FinderSettings>('PUT', `v1/admin/datasets/${encodeURIComponent(dataset)}/finder`, settings),
     /** Usage of a UTC month (default: the current one), per day and in total. `tenant` is for the operator. */
     usage: (filter: { tenant?: string; dataset?: string; month?: string } = {}) => json<UsageReport>('GET', `v1/admin/usage${queryString(filter)}`),
     revokeApiKey: (id: string) => json<{ id: string; revokedAt: string }>('POST', `v1/admin/keys/${encodeURIComponent(id)}/revoke`),

@@ -5,6 +5,7 @@ import { NearveilError } from '../http.ts';
 import { CliError } from './cli-error.ts';
 import { datasetHints } from './dataset-suggestion.ts';
 import { DATASET_HELP, datasetCommand } from './commands/dataset-lifecycle.ts';
+import { FINDER_HELP, finderCommand } from './commands/finder.ts';
 import { IMPORT_HELP, importCommand } from './commands/import.ts';
 import { KEY_HELP, keyCommand } from './commands/keys.ts';
 import { OPERATOR_HELP, operatorCommand } from './commands/operator.ts';
@@ -30,6 +31,8 @@ ${USAGE_HELP}
 
 ${KEY_HELP}
 
+${FINDER_HELP}
+
 ${OPERATOR_HELP}
 
 Defaults come from .nearveil/dev-credentials.json, written by the first \`npm start\`.`;
@@ -44,6 +47,7 @@ const commands: Record<string, (args: string[], print: (line: string) => void) =
   dataset: datasetCommand,
   usage: usageCommand,
   key: keyCommand,
+  finder: finderCommand,
   operator: operatorCommand,
 };
 

@@ -43,6 +43,15 @@ describe('nearveil command line', () => {
     expect(await run(['key', 'origins', '--id', 'k1'])).toMatchObject({ code: 2, err: expect.stringMatching(/name the new origins with --origin/) });
   });
 
+  it('checks finder page flags before asking the server', async () => {
+    expect(await run(['finder', 'on', '--dataset', 'clinics', '--frame-origin', 'orrin-health.example'])).toMatchObject({ code: 2, err: expect.stringMatching(/^nearveil: --frame-origin: expected an exact origin .* got "orrin-health.example"$/) });
+    expect(await run(['finder', 'on', '--dataset', 'clinics', '--frame-origin', 'https://orrin-health.example/embed'])).toMatchObject({ code: 2, err: expect.stringMatching(/did you mean https:\/\/orrin-health.example\?$/) });
+    expect(await run(['finder', 'on', '--dataset', 'clinics', '--k', '9'])).toMatchObject({ code: 2, err: expect.stringMatching(/--k: expected a whole number from 1 to 8, got "9"/) });
+    expect(await run(['finder', 'off', '--dataset', 'clinics', '--k', '2'])).toMatchObject({ code: 2, err: 'nearveil: finder off: --frame-origin, --k and --rate go with `nearveil finder on`' });
+    expect(await run(['finder', 'open', '--dataset', 'clinics'])).toMatchObject({ code: 2, err: expect.stringMatching(/finder: expected `nearveil finder show`, `on` or `off`, got "open"/) });
+    expect(await run(['finder', 'on'])).toMatchObject({ code: 2, err: expect.stringMatching(/--dataset is required/) });
+  });
+
   it('checks --k and --max-k: a whole number from 1 to 8, named in the message', async () => {
     expect(integerFlag(undefined, '--k', 1, 8, 1)).toBe(1);
     expect(integerFlag('8', '--max-k', 1, 8, 1)).toBe(8);

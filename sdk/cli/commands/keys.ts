@@ -1,6 +1,7 @@
 import { connectAdmin, type ApiKeyInfo, type NewApiKey } from '../../admin.ts';
 import { SlugSchema } from '../../../core/naming/dataset-slug.ts';
 import { CliError } from '../cli-error.ts';
+import { originFlag } from '../origin-flag.ts';
 import { connectionOptions, integerFlag, parseCommand, requireString, resolveConnection } from '../options.ts';
 
 export const KEY_HELP = `nearveil key list [--json]
@@ -59,7 +60,7 @@ export async function keyCommand(args: string[], print: (line: string) => void):
     if (values.quota !== undefined) body.monthlyQuota = integerFlag(values.quota, '--quota', 1, 1_000_000_000_000, 0);
     if (values.browser) {
       if (!values.origin?.length) throw new CliError('key create --browser: name at least one --origin, the exact origin of a page that will use the key (for example https://finder.example)');
-      Object.assign(body, { kind: 'browser', origins: values.origin.map(origin) });
+      Object.assign(body, { kind: 'browser', origins: values.origin.map((o) => originFlag(o, '--origin')) });
       if (values.rate !== undefined) body.requestsPerMinute = integerFlag(values.rate, '--rate', 1, 10_000, 30);
     } else if (values.origin || values.rate !== undefined) {
       throw new CliError('key create: --origin and --rate are for browser keys; add --browser');
@@ -73,7 +74,7 @@ export async function keyCommand(args: string[], print: (line: string) => void):
   const id = requireString(values.id, '--id', 'the key id, as `nearveil key list` shows it');
   if (action === 'origins') {
     if (!values.origin?.length) throw new CliError('key origins: name the new origins with --origin (they replace the old ones)');
-    const change: { origins: string[]; requestsPerMinute?: number } = { origins: values.origin.map(origin) };
+    const change: { origins: string[]; requestsPerMinute?: number } = { origins: values.origin.map((o) => originFlag(o, '--origin')) };
     if (values.rate !== undefined) change.requestsPerMinute = integerFlag(values.rate, '--rate', 1, 10_000, 30);
     const key = await admin().updateBrowserKey(id, change);
     if (values.json) return print(JSON.stringify(key));
@@ -100,19 +101,4 @@ function slug(text: string): string {
   const parsed = SlugSchema.safeParse(text);
   if (!parsed.success) throw new CliError(`--dataset: ${parsed.error.issues[0]?.message}, got "${text}"`);
   return parsed.data;
-}
-
-/** The exact origin the server will compare with: caught here so the message names the flag. */
-function origin(text: string): string {
-  let url: URL | undefined;
-  try {
-    url = new URL(text);
-  } catch {
-    url = undefined;
-  }
-  if (!url || (url.protocol !== 'https:' && url.protocol !== 'http:') || url.origin !== text) {
-    const hint = url && url.origin !== 'null' ? `; did you mean ${url.origin}?` : '';
-    throw new CliError(`--origin: expected an exact origin such as https://finder.example (scheme and host, no path or trailing slash), got "${text}"${hint}`);
-  }
-  return text;
 }
