@@ -42,15 +42,25 @@ export function buildPackAndInstall(): InstalledClientPackage {
     const [info] = JSON.parse(packed.slice(packed.indexOf('\n[') + 1 || packed.indexOf('['))) as Array<{ filename: string; files: Array<{ path: string }> }>;
     const tarball = join(scratch, info!.filename);
 
-    const project = join(scratch, 'project');
-    mkdirSync(join(project, 'node_modules', '@noble'), { recursive: true });
-    writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'client-package-trial', version: '1.0.0', private: true, type: 'module' }, null, 2));
-    symlinkSync(join(ROOT, 'node_modules', 'zod'), join(project, 'node_modules', 'zod'));
-    symlinkSync(join(ROOT, 'node_modules', '@noble', 'hashes'), join(project, 'node_modules', '@noble', 'hashes'));
-    run('npm', ['install', tarball, '--offline', '--no-save', '--no-audit', '--no-fund'], project);
+    const project = installTarball(tarball, scratch);
     return { project, tarball, packedFiles: info!.files.map((f) => f.path), buildLog, remove: () => rmSync(scratch, { recursive: true, force: true }) };
   } catch (err) {
     rmSync(scratch, { recursive: true, force: true });
     throw err;
   }
+}
+
+/**
+ * A new project in `scratch`/project with `tarball` installed as an app developer installs it
+ * (`npm install <tarball>`), offline: the dependencies are linked from the checkout first (see
+ * buildPackAndInstall). Returns the project folder.
+ */
+export function installTarball(tarball: string, scratch: string): string {
+  const project = join(scratch, 'project');
+  mkdirSync(join(project, 'node_modules', '@noble'), { recursive: true });
+  writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'client-package-trial', version: '1.0.0', private: true, type: 'module' }, null, 2));
+  symlinkSync(join(ROOT, 'node_modules', 'zod'), join(project, 'node_modules', 'zod'));
+  symlinkSync(join(ROOT, 'node_modules', '@noble', 'hashes'), join(project, 'node_modules', '@noble', 'hashes'));
+  run('npm', ['install', tarball, '--offline', '--no-save', '--no-audit', '--no-fund'], project);
+  return project;
 }

@@ -1,5 +1,6 @@
 import { spawnSync } from 'node:child_process';
-import { readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { around } from 'geokdbush';
 import KDBush from 'kdbush';
@@ -7,6 +8,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parseSiteTable } from '../../core/geo/site-table.ts';
 import { harrowValeCsv } from '../../scripts/demo/harrow-vale.ts';
 import { ROOT, startProduct, type ProductServer } from '../product-server.ts';
+import { installTarball } from './client-package-install.ts';
 import { commandLines, readmeBlocks } from './readme-blocks.ts';
 
 /**
@@ -14,6 +16,8 @@ import { commandLines, readmeBlocks } from './readme-blocks.ts';
  * own state folder), then `npx nearveil query` and `npx nearveil import` in a second terminal.
  */
 let product: ProductServer;
+/** The client tarball `npm run pack:client` made, as the README's app developer section has it. */
+let tarball = '';
 
 function nearveil(args: string[]) {
   const run = spawnSync('npx', ['nearveil', ...args], { cwd: ROOT, env: product.env, encoding: 'utf8', timeout: 120_000 });
@@ -120,16 +124,44 @@ describe('README commands', () => {
     expect(text.stdout).toMatch(/^Warning: This point is far outside the area these sites cover/);
   });
 
-  it('runs the README\'s "From code" sample as written, with the API key from the environment', () => {
+  it('runs the README\'s "For app developers" commands as written: the client tarball, a browser key, the finder page', async () => {
+    const lines = commandLines(readmeBlocks('For app developers')[0]!.code);
+    expect(lines[0]).toBe('npm run pack:client');
+    const packed = spawnSync('npm', ['run', '--silent', 'pack:client'], { cwd: ROOT, encoding: 'utf8', timeout: 300_000 });
+    expect(packed.status, packed.stderr).toBe(0);
+    tarball = join(ROOT, 'packages', 'client', packed.stdout.trim().split('\n').at(-1)!);
+    expect(tarball).toMatch(/nearveil-client-\d+\.\d+\.\d+\.tgz$/);
+    const made = lines.slice(1).map((line) => {
+      const args = line.replace(/^npx nearveil /, '').match(/"[^"]*"|\S+/g)!.map((a) => a.replace(/^"|"$/g, ''));
+      const run = nearveil([...args, '--json']);
+      expect(run.code, run.stderr).toBe(0);
+      return JSON.parse(run.stdout) as Record<string, unknown>;
+    });
+    const [key, finder] = [made[0]!, made[1]!];
+    expect(key).toMatchObject({ kind: 'browser', origins: ['https://care-finder.example'], datasets: ['harrow-vale-care'], requestsPerMinute: 30 });
+    expect(finder).toMatchObject({ enabled: true, frameOrigins: ['https://care-finder.example'] });
+    const page = await fetch(finder.url as string);
+    expect(page.status).toBe(200);
+    expect(page.headers.get('content-security-policy')).toContain("frame-ancestors 'self' https://care-finder.example");
+    expect(await page.text()).toContain('Find the nearest');
+    // The key works from its origin and nowhere else (as a browser would send Origin).
+    const asPage = (origin: string) => fetch(`${product.base}/v1/datasets/harrow-vale-care/manifest`, { headers: { authorization: `Bearer ${key.secret}`, origin } });
+    expect((await asPage('https://care-finder.example')).status).toBe(200);
+    expect((await asPage('https://elsewhere.example')).status).toBe(403);
+  });
+
+  it('runs the README\'s "From code" sample as written, in an app with the packed client installed', () => {
     const [sample] = readmeBlocks('From code');
     expect(sample!.lang).toBe('ts');
-    // A file beside sdk/ so its relative import resolves exactly as in a checkout.
-    const file = join(ROOT, `.readme-sample-${process.pid}.ts`);
+    expect(tarball, 'the "For app developers" test packs the client first').not.toBe('');
+    const scratch = mkdtempSync(join(tmpdir(), 'nearveil-readme-app-'));
+    const project = installTarball(tarball, scratch);
+    const file = join(project, 'sample.ts');
     writeFileSync(file, sample!.code);
     try {
       const saved = JSON.parse(readFileSync(join(product.env.NEARVEIL_HOME!, 'dev-credentials.json'), 'utf8')) as { apiKey: string };
-      const run = spawnSync(process.execPath, ['node_modules/tsx/dist/cli.mjs', file], {
-        cwd: ROOT,
+      const run = spawnSync(process.execPath, [join(ROOT, 'node_modules/tsx/dist/cli.mjs'), file], {
+        cwd: project,
         env: { ...product.env, NEARVEIL_ENDPOINT: product.base, NEARVEIL_API_KEY: saved.apiKey },
         encoding: 'utf8',
         timeout: 120_000,
@@ -148,7 +180,7 @@ describe('README commands', () => {
       expect(run.stdout).toContain(`id: '${nearest.id}'`);
       expect(run.stdout).toMatch(/phone: '\+999 4021 01\d\d'/);
     } finally {
-      rmSync(file, { force: true });
+      rmSync(scratch, { recursive: true, force: true });
     }
   });
 
