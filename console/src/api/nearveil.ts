@@ -45,11 +45,57 @@ export interface VersionInfo {
 export interface KeyInfo {
   id: string;
   label: string;
+  /** 'server': secret, shown once. 'browser': public, bound to its origins and a per-visitor rate. */
+  kind: 'server' | 'browser';
   createdAt: string;
   revokedAt: string | null;
   datasets: string[] | null;
   monthlyQuota: number | null;
   usedThisMonth: number;
+  /** Browser keys: exact origins, or "self" (pages of this server) for a finder page's key. */
+  origins?: string[];
+  /** Browser keys: requests one visitor address may make a minute. */
+  requestsPerMinute?: number;
+  /** Browser keys while not revoked: the key itself (public). */
+  secret?: string;
+}
+
+export type NewKey =
+  | { kind: 'server'; label: string; datasets?: string[]; monthlyQuota?: number }
+  | { kind: 'browser'; label: string; datasets?: string[]; monthlyQuota?: number; origins: string[]; requestsPerMinute: number };
+
+/** The origin a finder page's own key lists: pages of this server, whatever name it is reached by. */
+export const SELF_ORIGIN = 'self';
+
+/** The month's refusals of one reason (an error code) and key. */
+export interface RefusalCount {
+  reason: string;
+  keyId: string;
+  keyLabel: string;
+  count: number;
+}
+
+/** What a tenant admin sets for a dataset's public finder page. */
+export interface FinderSettings {
+  enabled: boolean;
+  /** Origins whose pages may show the finder in a frame; empty: it opens only on its own. */
+  frameOrigins?: string[];
+  /** Sites shown, nearest first (1-8; the page never shows more than the active version was built for). */
+  k?: number;
+  /** Searches one visitor address may start a minute. */
+  requestsPerMinute?: number;
+}
+
+export interface FinderView {
+  dataset: string;
+  enabled: boolean;
+  url: string;
+  frameOrigins: string[];
+  k: number;
+  requestsPerMinute: number | null;
+  keyId: string | null;
+  /** An iframe tag that embeds the page. */
+  embed: string;
 }
 
 export interface UsageDay {
@@ -65,6 +111,8 @@ export interface Usage {
   month: string;
   totals: Omit<UsageDay, 'day'>;
   days: UsageDay[];
+  /** Refusals by reason and key, most first. */
+  refusals: RefusalCount[];
 }
 
 export type Role = 'operator' | 'tenant_admin' | 'tenant_editor';
@@ -141,11 +189,15 @@ export function nearveilAdmin(client: ApiClient) {
     table: (slug: string, version: number) => client.text(`${ds(slug)}/versions/${version}/table`),
     manifest: (slug: string, version: number) => client.json<Manifest>('GET', `${ds(slug)}/versions/${version}/manifest`),
     keys: async () => (await client.json<{ keys: KeyInfo[] }>('GET', '/v1/admin/keys')).keys,
-    createKey: (body: { label: string; datasets?: string[]; monthlyQuota?: number }) =>
-      client.json<KeyInfo & { secret: string }>('POST', '/v1/admin/keys', body),
+    createKey: (body: NewKey) => client.json<KeyInfo & { secret: string }>('POST', '/v1/admin/keys', body),
+    /** Browser keys only: new origins, a new per-visitor rate, or both. */
+    changeBrowserKey: (id: string, change: { origins?: string[]; requestsPerMinute?: number }) =>
+      client.json<KeyInfo>('PATCH', `/v1/admin/keys/${encodeURIComponent(id)}`, change),
     revokeKey: (id: string) => client.json<{ id: string; revokedAt: string }>('POST', `/v1/admin/keys/${encodeURIComponent(id)}/revoke`),
     usage: (slug: string | null, month: string) =>
       client.json<Usage>('GET', `/v1/admin/usage?month=${encodeURIComponent(month)}${slug ? `&dataset=${encodeURIComponent(slug)}` : ''}`),
+    finder: (slug: string) => client.json<FinderView>('GET', `${ds(slug)}/finder`),
+    setFinder: (slug: string, settings: FinderSettings) => client.json<FinderView>('PUT', `${ds(slug)}/finder`, settings),
     changePassword: async (currentPassword: string, newPassword: string) => {
       await client.request('PUT', '/v1/session/password', { json: { currentPassword, newPassword } });
     },

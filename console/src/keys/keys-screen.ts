@@ -4,12 +4,19 @@ import { currentMonth } from '../cost/tariff.ts';
 import { confirmAction } from '../ui/ask-dialog.ts';
 import type { ConsoleContext, Screen } from '../ui/context.ts';
 import { bytes, download, errorText, fmt, h, onSubmit, plainTable, setStatus } from '../ui/dom.ts';
+import { changeBrowserKey } from './browser-key-dialog.ts';
+import { keyKindFields } from './browser-key-form.ts';
+import { finderPanel } from './finder-panel.ts';
+import { KEY_COLUMNS, keyRow } from './key-row.ts';
+import { refusalsTable } from './refusals-table.ts';
 import { drawUsageChart } from './usage-chart.ts';
 
 /**
- * API keys (created shown once, revoked) and usage: daily chart, totals, monthly statement.
- * Keys and statements are tenant admins' (api/auth/key-routes.ts, api/billing): editors see the
- * usage and a plain note of whom to ask, not a form the server would refuse.
+ * API keys (server keys shown once; web-page keys public, bound to origins and a per-visitor
+ * rate), the finder page, and usage: daily chart, totals, refusals by reason, monthly statement.
+ * Keys, the finder page and statements are tenant admins' (api/auth/key-routes.ts,
+ * api/finder, api/billing): editors see the usage and a plain note of whom to ask, not a form
+ * the server would refuse.
  */
 export function keysScreen(ctx: ConsoleContext): Screen {
   const admin = canAdminister(ctx.signed);
@@ -26,14 +33,25 @@ export function keysScreen(ctx: ConsoleContext): Screen {
   const usageDataset = h('select', { id: 'usage-dataset' }) as HTMLSelectElement;
   const chart = h('canvas', { class: 'chart', id: 'usage-chart', role: 'img', 'aria-label': 'Queries per day' }) as HTMLCanvasElement;
   const totals = h('div', { id: 'usage-totals' });
+  const refusals = refusalsTable();
+  const kind = keyKindFields();
+  const formProblem = h('div', { class: 'status', id: 'key-form-problem', role: 'status' });
   const form = h(
     'form',
-    { class: 'toolbar', 'aria-label': 'Create an API key' },
-    h('label', { for: 'key-label' }, 'Label ', label),
-    h('label', { for: 'key-datasets' }, 'Datasets (none chosen: all) ', scope),
-    h('label', { for: 'key-quota' }, 'Monthly quota ', quota),
-    h('button', { type: 'submit', class: 'primary' }, 'Create key'),
+    { class: 'key-form', 'aria-label': 'Create an API key' },
+    kind.element,
+    h(
+      'div',
+      { class: 'toolbar' },
+      h('label', { for: 'key-label' }, 'Label ', label),
+      h('label', { for: 'key-datasets' }, 'Datasets (none chosen: all) ', scope),
+      h('label', { for: 'key-quota' }, 'Monthly quota ', quota),
+      h('button', { type: 'submit', class: 'primary' }, 'Create key'),
+    ),
+    formProblem,
   );
+  // After the finder panel changed its own key: the list again, not the panel (it shows its answer).
+  const finder = admin ? finderPanel(ctx, () => void loadKeys(false)) : null;
   onSubmit(form, createKey);
   month.addEventListener('change', () => void loadUsage());
   usageDataset.addEventListener('change', () => void loadUsage());
@@ -45,7 +63,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
         h('h2', {}, 'API keys'),
         form,
         secretBox,
-        h('div', { class: 'table-scroll' }, plainTable('keys-table', ['Label', 'Datasets', 'Used this month', 'Monthly quota', 'Created', 'State', ''], keysBody)),
+        h('div', { class: 'table-scroll' }, plainTable('keys-table', KEY_COLUMNS, keysBody)),
       )
     : h(
         'div',
@@ -66,6 +84,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
     { 'aria-label': admin ? 'Keys and usage' : 'Usage' },
     status,
     keysPanel,
+    finder?.element,
     h(
       'div',
       { class: 'panel' },
@@ -82,57 +101,95 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       chart,
       h('div', { class: 'legend' }, h('span', { style: 'color:#1f5fbf' }, '■ answered'), h('span', { style: 'color:#b3261e' }, '■ rejected')),
       totals,
+      refusals.element,
     ),
   );
 
-  async function loadKeys(): Promise<void> {
+  async function loadKeys(withFinder = true): Promise<void> {
     try {
       const [keys, datasets] = await Promise.all([admin ? ctx.api.keys() : Promise.resolve([]), ctx.api.datasets()]);
       scope.replaceChildren(...datasets.map((d) => h('option', { value: d.slug }, d.slug)));
       const chosen = usageDataset.value;
       usageDataset.replaceChildren(h('option', { value: '' }, 'all datasets'), ...datasets.map((d) => h('option', { value: d.slug }, d.slug)));
       usageDataset.value = chosen;
-      keysBody.replaceChildren(...keys.map((k) => keyRow(k)));
+      keysBody.replaceChildren(...keys.map((k) => keyRow(k, { showKey: showPublicKey, change: (key) => void changeKey(key), revoke: (key) => void revokeKey(key) })));
+      if (withFinder) await finder?.refresh(datasets);
     } catch (err) {
       say(errorText(err), 'bad');
     }
   }
 
-  function keyRow(k: KeyInfo): HTMLElement {
-    const revoke = h('button', { type: 'button', class: 'danger', onclick: () => void revokeKey(k) }, `Revoke ${k.label}`);
-    return h(
-      'tr',
-      {},
-      h('td', {}, k.label),
-      h('td', {}, k.datasets && k.datasets.length > 0 ? k.datasets.join(', ') : 'all'),
-      h('td', { class: 'num' }, k.usedThisMonth === undefined ? '—' : fmt.format(k.usedThisMonth)),
-      h('td', { class: 'num' }, k.monthlyQuota ? fmt.format(k.monthlyQuota) : '—'),
-      h('td', {}, k.createdAt.slice(0, 16).replace('T', ' ')),
-      h('td', {}, k.revokedAt ? `revoked ${k.revokedAt.slice(0, 10)}` : 'active'),
-      h('td', {}, k.revokedAt ? '' : revoke),
-    );
-  }
-
   async function createKey(): Promise<void> {
     const datasets = Array.from(scope.selectedOptions, (o) => o.value);
     const monthlyQuota = quota.value ? Number(quota.value) : undefined;
+    const choice = kind.read();
+    if (!choice.ok) {
+      setStatus(formProblem, choice.problem, 'bad');
+      choice.field.focus();
+      return;
+    }
+    setStatus(formProblem, '');
+    const common = { label: label.value, ...(datasets.length ? { datasets } : {}), ...(monthlyQuota ? { monthlyQuota } : {}) };
     try {
-      const created = await ctx.api.createKey({ label: label.value, ...(datasets.length ? { datasets } : {}), ...(monthlyQuota ? { monthlyQuota } : {}) });
+      const created = await ctx.api.createKey(
+        choice.kind === 'server' ? { kind: 'server', ...common } : { kind: 'browser', ...common, origins: choice.origins, requestsPerMinute: choice.requestsPerMinute },
+      );
       const secret = created.secret;
       shownKeyId = created.id;
+      const copy = h('button', { type: 'button', onclick: () => void copySecret(secret) }, 'Copy key');
       secretBox.replaceChildren(
-        h('p', {}, `Key “${created.label}” created. Copy it now: it is shown only this once and stored only as a hash.`),
-        h('p', { class: 'secret', id: 'new-key-secret' }, secret),
-        h('button', { type: 'button', onclick: () => void navigator.clipboard?.writeText(secret).then(() => say('Copied')) }, 'Copy key'),
-        ' ',
-        h('button', { type: 'button', onclick: () => hideSecret() }, 'I have stored it'),
+        ...(created.kind === 'browser'
+          ? [
+              h('p', {}, `Web-page key “${created.label}” created. It is public: put it in your pages. You can show it here again at any time.`),
+              h('p', { class: 'secret', id: 'new-key-secret' }, secret),
+              copy,
+              ' ',
+              h('button', { type: 'button', onclick: () => hideSecret() }, 'Hide key'),
+            ]
+          : [
+              h('p', {}, `Key “${created.label}” created. Copy it now: it is shown only this once and stored only as a hash.`),
+              h('p', { class: 'secret', id: 'new-key-secret' }, secret),
+              copy,
+              ' ',
+              h('button', { type: 'button', onclick: () => hideSecret() }, 'I have stored it'),
+            ]),
       );
       label.value = '';
+      kind.clear();
       say(`Created key ${created.label}`, 'good');
       await loadKeys();
     } catch (err) {
       say(`Key not created: ${errorText(err)}`, 'bad');
     }
+  }
+
+  async function copySecret(secret: string): Promise<void> {
+    try {
+      await navigator.clipboard.writeText(secret);
+      say('Copied', 'good');
+    } catch (err) {
+      say(`Could not copy (select the key and copy it yourself): ${errorText(err)}`, 'bad');
+    }
+  }
+
+  /** A web-page key is public: shown on request, for as long as it is not revoked. */
+  function showPublicKey(k: KeyInfo): void {
+    const secret = k.secret;
+    if (!secret) return;
+    shownKeyId = k.id;
+    secretBox.replaceChildren(
+      h('p', {}, `Web-page key “${k.label}”. It is public and works only from the pages it lists.`),
+      h('p', { class: 'secret', id: 'browser-key-secret' }, secret),
+      h('button', { type: 'button', onclick: () => void copySecret(secret) }, 'Copy key'),
+      ' ',
+      h('button', { type: 'button', onclick: () => hideSecret() }, 'Hide key'),
+    );
+  }
+
+  async function changeKey(k: KeyInfo): Promise<void> {
+    if (!(await changeBrowserKey(ctx.api, k))) return;
+    say(`Changed ${k.label}`, 'good');
+    await loadKeys();
   }
 
   function hideSecret(): void {
@@ -163,6 +220,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       const usage = await ctx.api.usage(usageDataset.value || null, month.value);
       drawUsageChart(chart, usage.month, usage.days);
       const t = usage.totals;
+      refusals.show(usage.refusals ?? []);
       totals.replaceChildren(
         h(
           'dl',
@@ -176,6 +234,7 @@ export function keysScreen(ctx: ConsoleContext): Screen {
       );
     } catch (err) {
       drawUsageChart(chart, month.value, []);
+      refusals.unknown();
       totals.replaceChildren(h('p', { class: 'grid-note' }, `Usage: ${errorText(err)}`));
     }
   }
