@@ -12,7 +12,7 @@ export default defineConfig({
       {
         test: {
           name: 'node',
-          include: ['test/core/**/*.test.ts', 'test/sdk/**/*.test.ts', 'test/e2e/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/console/**/*.test.ts'],
+          include: ['test/core/**/*.test.ts', 'test/sdk/**/*.test.ts', 'test/e2e/**/*.test.ts', 'test/reference/**/*.test.ts', 'test/console/**/*.test.ts', 'test/finder/**/*.test.ts'],
           environment: 'node',
           testTimeout: 180_000,
           hookTimeout: 180_000,

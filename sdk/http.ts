@@ -5,15 +5,26 @@ export class NearveilError extends Error {
   readonly field: string | undefined;
   /** Per-row problems the server listed, for instance the cells of a site table at fault. */
   readonly details: ReadonlyArray<{ row?: number; column?: string; message: string }>;
+  /** Seconds to wait before trying again, from a refusal's Retry-After header; null when it sent none. */
+  readonly retryAfterSeconds: number | null;
 
-  constructor(status: number, code: string, message: string, field?: string, details: NearveilError['details'] = []) {
+  constructor(status: number, code: string, message: string, field?: string, details: NearveilError['details'] = [], retryAfterSeconds: number | null = null) {
     super(message);
     this.name = 'NearveilError';
     this.status = status;
     this.code = code;
     this.field = field;
     this.details = details;
+    this.retryAfterSeconds = retryAfterSeconds;
   }
+}
+
+/**
+ * Retry-After in its delay-seconds form (RFC 9110 section 10.2.3), the form nearveil sends; an
+ * HTTP-date or anything else gives null.
+ */
+export function retryAfterFrom(header: string | null): number | null {
+  return header !== null && /^\s*\d{1,9}\s*$/.test(header) ? Number(header) : null;
 }
 
 export type FetchLike = (input: Request) => Promise<Response>;
@@ -61,7 +72,8 @@ async function errorFrom(response: Response): Promise<NearveilError> {
   try {
     const body = JSON.parse(text) as { error?: { code?: string; message?: string; field?: string; details?: NearveilError['details'] } };
     if (body.error?.message) {
-      return new NearveilError(response.status, body.error.code ?? 'error', body.error.message, body.error.field, body.error.details ?? []);
+      const retryAfter = retryAfterFrom(response.headers.get('retry-after'));
+      return new NearveilError(response.status, body.error.code ?? 'error', body.error.message, body.error.field, body.error.details ?? [], retryAfter);
     }
   } catch {
     // not JSON: fall through to the status line

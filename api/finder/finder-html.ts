@@ -53,7 +53,7 @@ export function renderFinderPage(config: FinderPageConfig): string {
 <ul>
 <li>Your position is used only inside this page, on this device. It is never sent anywhere.</li>
 <li>What leaves this device is an encrypted query that the provider of this list cannot read.</li>
-<li>The provider learns that a search happened, and which list was searched, not where from.</li>
+<li>The provider learns that a search happened, on which list, when, and from which network address, but never your position.</li>
 <li>Your network, and anyone able to watch it, can see that this device connected to this site.</li>
 </ul>
 </section>

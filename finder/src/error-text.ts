@@ -11,7 +11,7 @@ export function errorText(err: unknown): string {
   }
   switch (err.code) {
     case 'rate_limited': {
-      const seconds = retryAfterSeconds(err);
+      const seconds = err.retryAfterSeconds === null ? null : Math.max(1, Math.ceil(err.retryAfterSeconds));
       return seconds === null
         ? 'Too many searches from this device just now. Wait a minute, then try again.'
         : `Too many searches from this device just now. Try again in ${seconds} ${seconds === 1 ? 'second' : 'seconds'}.`;
@@ -39,13 +39,4 @@ export function errorText(err: unknown): string {
   if (err.status === 429) return 'The search service is busy with this device or this list just now. Wait a minute, then try again.';
   if (err.status >= 500) return 'The search service had a problem and did not answer. Try again in a moment.';
   return `The search did not work (${err.code}). Please try again later.`;
-}
-
-/**
- * The Retry-After seconds of a refusal, when the client carries them. NearveilError has no such
- * field today; a `retryAfterSeconds` number is read when a later client adds it.
- */
-export function retryAfterSeconds(err: NearveilError): number | null {
-  const value = (err as unknown as { retryAfterSeconds?: unknown }).retryAfterSeconds;
-  return typeof value === 'number' && Number.isFinite(value) && value >= 0 ? Math.ceil(value) : null;
 }

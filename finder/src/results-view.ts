@@ -36,7 +36,8 @@ function siteItem(site: NearestSite, position: number): HTMLElement {
     el('h3', { id: headingId }, title),
     el('p', { class: 'site-distance' }, `${distanceText(site.distanceMeters)} away in a straight line`),
     fields.length > 0 ? el('dl', { class: 'site-fields' }, ...fields.flatMap(([term, value]) => [el('dt', {}, term), el('dd', {}, value)])) : null,
-    el('a', { class: 'site-map', href: geoUri(site.lat, site.lon) }, 'Open in your maps app', el('span', { class: 'visually-hidden' }, `: ${title}`)),
+    // The record holds the coordinates exactly as the table does; the candidate list may round them.
+    el('a', { class: 'site-map', href: geoUri(site.record?.lat ?? site.lat, site.record?.lon ?? site.lon) }, 'Open in your maps app', el('span', { class: 'visually-hidden' }, `: ${title}`)),
   );
 }
 

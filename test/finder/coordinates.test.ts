@@ -46,7 +46,7 @@ describe('distance and error wording', () => {
 
   it('says each refusal in plain words', () => {
     expect(errorText(new NearveilError(429, 'rate_limited', 'x'))).toBe('Too many searches from this device just now. Wait a minute, then try again.');
-    const withWait = Object.assign(new NearveilError(429, 'rate_limited', 'x'), { retryAfterSeconds: 41.2 });
+    const withWait = new NearveilError(429, 'rate_limited', 'x', 'requestsPerMinute', [], 41.2);
     expect(errorText(withWait)).toBe('Too many searches from this device just now. Try again in 42 seconds.');
     expect(errorText(new NearveilError(429, 'quota_exceeded', 'x'))).toMatch(/limit of searches for this month/);
     expect(errorText(new NearveilError(403, 'origin_not_allowed', 'x'))).toMatch(/cannot be searched from this web address/);

@@ -1,8 +1,5 @@
-import { readFileSync } from 'node:fs';
-import { createServer, request as httpRequest, type IncomingHttpHeaders, type Server } from 'node:http';
-import { extname, join } from 'node:path';
+import { join } from 'node:path';
 import { build } from 'vite';
-import { renderFinderPage, type FinderPageConfig } from '../../api/finder/finder-html.ts';
 import { ROOT } from '../product-server.ts';
 
 /** Where `npx vite build --config finder/vite.config.ts` writes the page's script and stylesheet. */
@@ -11,81 +8,6 @@ export const FINDER_BUILD = join(ROOT, '.console-build', 'finder');
 /** Builds the finder page's files as the product build does (finder/vite.config.ts). */
 export async function buildFinder(): Promise<void> {
   await build({ configFile: join(ROOT, 'finder', 'vite.config.ts'), logLevel: 'warn' });
-}
-
-/** One request as it crossed the harness: what the network would carry. */
-export interface SeenRequest {
-  method: string;
-  url: string;
-  headers: IncomingHttpHeaders;
-  body: Buffer;
-}
-
-export interface FinderSite {
-  origin: string;
-  /** Every /v1 request the page made, with its body, in order. */
-  apiRequests: SeenRequest[];
-  close(): Promise<void>;
-}
-
-// The Worker will send this policy with the page (the lead's route); sent here too, so a script or
-// style the policy would block fails in the test as it would in production.
-const CSP = "default-src 'self'";
-const TYPES: Record<string, string> = { '.js': 'text/javascript; charset=utf-8', '.css': 'text/css; charset=utf-8', '.map': 'application/json' };
-
-/**
- * A stand-in for the Worker's finder route on a free 127.0.0.1 port: `/find/x/<name>` answers
- * renderFinderPage(pages[name]), `/finder/*` the built files, `/test-tools/axe.min.js` axe-core
- * (npm; same-origin so the CSP lets it load), and `/v1/*` is passed to the product untouched, so
- * the page and the API share one origin as they will when the Worker serves both.
- */
-export async function startFinderSite(productBase: string, pages: Record<string, FinderPageConfig>): Promise<FinderSite> {
-  const apiRequests: SeenRequest[] = [];
-  const product = new URL(productBase);
-  const server: Server = createServer((req, res) => {
-    const path = new URL(req.url ?? '/', 'http://x').pathname;
-    const page = /^\/find\/x\/([a-z0-9-]+)$/.exec(path);
-    if (req.method === 'GET' && page && pages[page[1]!]) {
-      res.writeHead(200, { 'content-type': 'text/html; charset=utf-8', 'content-security-policy': CSP, 'cache-control': 'no-store' }).end(renderFinderPage(pages[page[1]!]!));
-      return;
-    }
-    const file = /^\/finder\/(finder\.(js|css|js\.map))$/.exec(path);
-    if (req.method === 'GET' && (file || path === '/test-tools/axe.min.js')) {
-      const where = file ? join(FINDER_BUILD, file[1]!) : join(ROOT, 'node_modules', 'axe-core', 'axe.min.js');
-      res.writeHead(200, { 'content-type': TYPES[extname(where)] ?? 'application/octet-stream', 'cache-control': 'no-store' }).end(readFileSync(where));
-      return;
-    }
-    if (path.startsWith('/v1/')) {
-      const chunks: Buffer[] = [];
-      req.on('data', (chunk: Buffer) => chunks.push(chunk));
-      req.on('end', () => {
-        const body = Buffer.concat(chunks);
-        apiRequests.push({ method: req.method ?? 'GET', url: req.url ?? '', headers: req.headers, body });
-        const upstream = httpRequest(
-          { host: product.hostname, port: product.port, method: req.method, path: req.url, headers: { ...req.headers, host: product.host } },
-          (answer) => {
-            res.writeHead(answer.statusCode ?? 502, answer.headers);
-            answer.pipe(res);
-          },
-        );
-        upstream.on('error', (err) => res.writeHead(502, { 'content-type': 'text/plain' }).end(`proxy: ${err.message}`));
-        upstream.end(body);
-      });
-      return;
-    }
-    res.writeHead(404, { 'content-type': 'text/plain' }).end('not found');
-  });
-  await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve));
-  const { port } = server.address() as { port: number };
-  return {
-    origin: `http://127.0.0.1:${port}`,
-    apiRequests,
-    close: () =>
-      new Promise<void>((resolve) => {
-        server.closeAllConnections();
-        server.close(() => resolve());
-      }),
-  };
 }
 
 /** Great-circle distance by the haversine formula (common practice), on a sphere of 6371 km: the test's own reference. */
