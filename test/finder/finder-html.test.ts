@@ -56,7 +56,7 @@ describe('renderFinderPage', () => {
     const html = renderFinderPage({ title: 'care sites', dataset: 'd', apiKey: 'k', k: 1 });
     expect(html).toContain('Your position is used only inside this page');
     expect(html).toContain('encrypted query that the provider of this list cannot read');
-    expect(html).toContain('learns that a search happened, and which list');
+    expect(html).toContain('learns that a search happened, on which list, when, and from which network address, but never your position');
     expect(html).toContain('can see that this device connected');
   });
 

@@ -1,4 +1,5 @@
 import type { KeyInfo, NearveilAdmin } from '../api/nearveil.ts';
+import { openQuestion } from '../ui/ask-dialog.ts';
 import { errorText, h, setStatus } from '../ui/dom.ts';
 import { DEFAULT_RATE, MAX_RATE } from './browser-key-form.ts';
 import { readOriginLines } from './origin-lines.ts';
@@ -26,18 +27,8 @@ export function changeBrowserKey(api: NearveilAdmin, key: KeyInfo): Promise<bool
       status,
       h('div', { class: 'toolbar' }, save, cancel),
     );
-    const dialog = h('dialog', { class: 'ask', 'aria-labelledby': 'change-title' }, h('h2', { id: 'change-title' }, `Change the key “${key.label}”`), form) as HTMLDialogElement;
-    document.body.append(dialog);
-    dialog.showModal();
+    const { finish } = openQuestion(`Change the key “${key.label}”`, form, null, resolve);
     origins.focus();
-    let done = false;
-    const finish = (value: boolean) => {
-      if (done) return;
-      done = true;
-      dialog.close();
-      dialog.remove();
-      resolve(value);
-    };
     form.addEventListener('submit', (e) => {
       e.preventDefault();
       void (async () => {
@@ -58,6 +49,5 @@ export function changeBrowserKey(api: NearveilAdmin, key: KeyInfo): Promise<bool
       })();
     });
     cancel.addEventListener('click', () => finish(false));
-    dialog.addEventListener('close', () => finish(false));
   });
 }

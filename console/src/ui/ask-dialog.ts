@@ -19,21 +19,12 @@ export function confirmAction(options: ConfirmOptions): Promise<boolean> {
     const yes = h('button', { type: 'submit', class: options.danger ? 'danger' : 'primary' }, options.confirmLabel);
     const no = h('button', { type: 'button' }, 'Cancel');
     const form = h('form', { class: 'stacked', method: 'dialog' }, h('p', { id: 'ask-message' }, options.message), h('div', { class: 'toolbar' }, yes, no));
-    const dialog = open(options.title, form, 'ask-message');
-    let answered = false;
-    const answer = (value: boolean) => {
-      if (answered) return;
-      answered = true;
-      dialog.close();
-      dialog.remove();
-      resolve(value);
-    };
+    const { finish } = openQuestion(options.title, form, 'ask-message', resolve);
     form.addEventListener('submit', (e) => {
       e.preventDefault();
-      answer(true);
+      finish(true);
     });
-    no.addEventListener('click', () => answer(false));
-    dialog.addEventListener('close', () => answer(false));
+    no.addEventListener('click', () => finish(false));
     (options.danger ? no : yes).focus();
   });
 }
@@ -67,15 +58,7 @@ export function askText(options: AskTextOptions): Promise<boolean> {
       status,
       h('div', { class: 'toolbar' }, submit, cancel),
     );
-    const dialog = open(options.title, form, null);
-    let done = false;
-    const finish = (value: boolean) => {
-      if (done) return;
-      done = true;
-      dialog.close();
-      dialog.remove();
-      resolve(value);
-    };
+    const { finish } = openQuestion(options.title, form, null, resolve);
     form.addEventListener('submit', (e) => {
       e.preventDefault();
       void (async () => {
@@ -94,14 +77,26 @@ export function askText(options: AskTextOptions): Promise<boolean> {
       })();
     });
     cancel.addEventListener('click', () => finish(false));
-    dialog.addEventListener('close', () => finish(false));
     input.focus();
   });
 }
 
-function open(title: string, body: HTMLElement, describedBy: string | null): HTMLDialogElement {
+/**
+ * Opens a question dialog around `body`; `finish(answer)` closes and removes it and resolves the
+ * question once (Escape counts as no). Every dialog of the console is made here.
+ */
+export function openQuestion(title: string, body: HTMLElement, describedBy: string | null, resolve: (answer: boolean) => void): { dialog: HTMLDialogElement; finish(answer: boolean): void } {
   const dialog = h('dialog', { class: 'ask', 'aria-labelledby': 'ask-title', 'aria-describedby': describedBy }, h('h2', { id: 'ask-title' }, title), body) as HTMLDialogElement;
   document.body.append(dialog);
   dialog.showModal();
-  return dialog;
+  let done = false;
+  const finish = (answer: boolean) => {
+    if (done) return;
+    done = true;
+    dialog.close();
+    dialog.remove();
+    resolve(answer);
+  };
+  dialog.addEventListener('close', () => finish(false));
+  return { dialog, finish };
 }
