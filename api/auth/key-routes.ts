@@ -8,7 +8,7 @@ import { ApiError } from '../http/api-error.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, SlugSchema } from '../http/params.ts';
 import { utcMonth } from '../metering/calendar.ts';
-import { DEFAULT_REQUESTS_PER_MINUTE, OriginListSchema, parseOrigins } from './browser-keys.ts';
+import { DEFAULT_REQUESTS_PER_MINUTE, OriginListSchema, parseOrigins, SELF_ORIGIN } from './browser-keys.ts';
 import { parseKeyScope } from './key-scope.ts';
 import { recordAudit } from '../audit/record-audit.ts';
 import { requireRole } from './principal.ts';
@@ -135,6 +135,9 @@ export const keyRoutes = new Hono<AppBindings>()
     if (!row) throw new ApiError(404, 'key_unknown', `API key ${id} does not exist for this tenant`, 'id');
     if (row.origins === null) throw new ApiError(409, 'key_not_browser', `API key ${id} is a server key: only browser keys have origins and a per-client rate`, 'id');
     if (row.revokedAt !== null) throw new ApiError(409, 'key_revoked', `API key ${id} was revoked at ${row.revokedAt}`, 'id');
+    if (parseOrigins(row.origins).includes(SELF_ORIGIN)) {
+      throw new ApiError(409, 'key_of_finder', `API key ${id} is a finder page's key: change its rate with PUT /v1/admin/datasets/:dataset/finder`, 'id');
+    }
     const origins = body.origins === undefined ? parseOrigins(row.origins) : [...new Set(body.origins)];
     const requestsPerMinute = body.requestsPerMinute ?? row.requestsPerMinute;
     const mine = eq(credentials.id, id);

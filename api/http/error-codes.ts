@@ -70,6 +70,7 @@ export const ERROR_CODES: Readonly<Record<string, string>> = {
   quota_exceeded: "The API key used its month's quota; wait Retry-After seconds (429).",
   key_not_browser: 'The API key is a server key; only browser keys have origins and a per-client rate (409).',
   key_revoked: 'The API key was revoked and can no longer be changed (409).',
+  key_of_finder: "The API key belongs to a finder page and changes only with the page's settings (409).",
   origin_not_allowed: "The page's origin is not one the browser key lists, or no browser key lists it (CORS preflight) (403).",
   origin_missing: 'A browser key was sent without an Origin header: browser keys work from web pages only (403).',
   server_key_in_page: 'A server API key was sent by a web page of another origin; pages need a browser key (403).',

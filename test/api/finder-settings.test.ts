@@ -75,6 +75,10 @@ describe('the finder page switch', () => {
     const { keys } = (await (await adminRequest(t, 'GET', '/v1/admin/keys')).json()) as { keys: Array<{ id: string; kind: string; datasets: string[]; origins: string[]; secret: string }> };
     const key = keys.find((k) => k.id === view.keyId)!;
     expect(key).toMatchObject({ kind: 'browser', datasets: ['shelters'], origins: ['self'], secret: config.apiKey });
+    // Its origins change only with the page: a PATCH that would drop "self" is refused.
+    const patched = await adminRequest(t, 'PATCH', `/v1/admin/keys/${key.id}`, JSON.stringify({ origins: [EMBEDDER] }), 'application/json');
+    expect(patched.status).toBe(409);
+    expect(((await patched.json()) as { error: { code: string } }).error.code).toBe('key_of_finder');
   });
 
   it("lets the page's key work from this server's pages only, and for its own dataset only", async () => {
