@@ -40,6 +40,26 @@ const answers: Array<{ url: string; status: number; body: string }> = [];
 /** Every position the tests gave the page, for the leak check at the end. */
 const positions: Array<{ lat: number; lon: number }> = [];
 let device: { lat: number; lon: number };
+/** Two pages that frame the finder page: one from an origin its settings list, one from another. */
+let listedEmbedder: Embedder;
+let otherEmbedder: Embedder;
+
+interface Embedder { origin: string; close(): Promise<void> }
+
+/** A 127.0.0.1 site whose one page frames `frameUrl()` as the embed code does (allow="geolocation"). */
+async function startEmbedder(frameUrl: () => string): Promise<Embedder> {
+  const server: Server = createServer((_req, res) =>
+    res.writeHead(200, { 'content-type': 'text/html' }).end(`<!doctype html><html lang="en"><title>Orrin Health (invented)</title><h1>Find a clinic</h1><iframe id="finder" src="${frameUrl()}" title="Finder" allow="geolocation" width="420" height="900"></iframe></html>`),
+  );
+  await new Promise<void>((resolve) => server.listen(0, '127.0.0.1', resolve));
+  return {
+    origin: `http://127.0.0.1:${(server.address() as { port: number }).port}`,
+    close: () => {
+      server.closeAllConnections();
+      return new Promise<void>((resolve) => server.close(() => resolve()));
+    },
+  };
+}
 
 async function readTable(adminToken: string, dataset: string): Promise<Site[]> {
   const response = await fetch(`${product.base}/v1/admin/datasets/${dataset}/versions/1/table`, { headers: { authorization: `Bearer ${adminToken}` } });
@@ -71,7 +91,10 @@ beforeAll(async () => {
     await admin.build(slug, uploaded.version, 'auto', maxK);
     await admin.publish(slug, uploaded.version);
   }
-  for (const slug of [OPEN, DEMO, HOSTILE]) pageUrl[slug] = (await admin.setFinder(slug, { enabled: true, k: 3 })).url;
+  listedEmbedder = await startEmbedder(() => pageUrl[OPEN]!);
+  otherEmbedder = await startEmbedder(() => pageUrl[OPEN]!);
+  pageUrl[OPEN] = (await admin.setFinder(OPEN, { enabled: true, k: 3, frameOrigins: [listedEmbedder.origin] })).url;
+  for (const slug of [DEMO, HOSTILE]) pageUrl[slug] = (await admin.setFinder(slug, { enabled: true, k: 3 })).url;
   pageUrl[SLOW] = (await admin.setFinder(SLOW, { enabled: true, requestsPerMinute: 1 })).url;
   const { keys } = await admin.apiKeys();
   pageKey = keys.find((k) => k.label === `Finder page: ${OPEN}`)!.secret!;
@@ -88,6 +111,8 @@ beforeAll(async () => {
 }, 600_000);
 
 afterAll(async () => {
+  await listedEmbedder?.close();
+  await otherEmbedder?.close();
   await browser?.close();
   await product?.stop();
 });
@@ -308,6 +333,32 @@ describe('the finder page, served by the Worker', () => {
       other.closeAllConnections();
       await new Promise<void>((resolve) => other.close(() => resolve()));
     }
+  });
+
+  it('works framed by a site its settings list (the embed code), and is not shown in a frame anywhere else (CSP frame-ancestors)', async () => {
+    const page = await context.newPage();
+    page.on('request', (r: Request) => void record(r));
+    await page.goto(listedEmbedder.origin + '/');
+    const frame = page.frameLocator('#finder');
+    const place = tables[OPEN]![11]!;
+    const typed = { lat: Number((place.lat + 0.0071).toFixed(4)), lon: Number((place.lon - 0.0049).toFixed(4)) };
+    positions.push(typed);
+    await frame.locator('#lat').fill(String(typed.lat));
+    await frame.locator('#lon').fill(String(typed.lon));
+    await frame.locator('#typed-position button[type=submit]').click();
+    await frame.locator('#results-heading').waitFor({ timeout: 170_000 });
+    expect(await frame.locator('li.site').evaluateAll((items) => items.map((li) => li.getAttribute('data-site-id')))).toEqual(bruteForceNearest(tables[OPEN]!, typed.lat, typed.lon, 3));
+    await page.screenshot({ path: join(SHOTS, 'finder-framed.png'), fullPage: true });
+    await page.close();
+
+    // Chromium reports the refused frame on the console, naming the directive.
+    const elsewhere = await context.newPage();
+    const refused = elsewhere.waitForEvent('console', { predicate: (m) => /frame-ancestors/.test(m.text()), timeout: 60_000 });
+    await elsewhere.goto(otherEmbedder.origin + '/');
+    expect((await refused).text()).toContain(new URL(pageUrl[OPEN]!).origin);
+    const inner = elsewhere.frames().find((f) => f !== elsewhere.mainFrame());
+    expect(await inner?.$('#use-position').catch(() => null)).toBeFalsy();
+    await elsewhere.close();
   });
 
   it('words a spent monthly quota, an origin refusal and a lost network plainly (answers stood in for with page.route)', async () => {
