@@ -12,6 +12,7 @@ import type { AppBindings } from '../env.ts';
 import { findDataset, type DatasetRow } from '../datasets/repository.ts';
 import { limitBody } from '../http/body-limit.ts';
 import { jsonBody, pathSlug } from '../http/params.ts';
+import { FinderSettings } from '../reference/response-schemas.ts';
 import { renderFinderPage } from './finder-html.ts';
 
 /**
@@ -38,17 +39,7 @@ const DEFAULT_FINDER_K = 3;
 /** A search is a manifest read and one or two queries; 30 a minute lets a person retry freely. */
 const DEFAULT_FINDER_RATE = 30;
 
-interface FinderView {
-  dataset: string;
-  enabled: boolean;
-  url: string;
-  frameOrigins: string[];
-  k: number;
-  requestsPerMinute: number | null;
-  keyId: string | null;
-  /** An iframe tag that embeds the page; the allow attribute lets it ask for the position. */
-  embed: string;
-}
+type FinderView = z.infer<typeof FinderSettings>;
 
 const pagePath = (tenantSlug: string, dataset: string) => `/find/${encodeURIComponent(tenantSlug)}/${encodeURIComponent(dataset)}`;
 

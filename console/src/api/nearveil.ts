@@ -1,4 +1,5 @@
 import type { Manifest } from '../../../core/geo/manifest.ts';
+import type { FinderSettings as FinderSettingsView } from '../../../sdk/admin.ts';
 import type { ApiClient } from './client.ts';
 
 /** The admin routes the console uses, typed. */
@@ -86,17 +87,8 @@ export interface FinderSettings {
   requestsPerMinute?: number;
 }
 
-export interface FinderView {
-  dataset: string;
-  enabled: boolean;
-  url: string;
-  frameOrigins: string[];
-  k: number;
-  requestsPerMinute: number | null;
-  keyId: string | null;
-  /** An iframe tag that embeds the page. */
-  embed: string;
-}
+/** A dataset's finder page settings, as the admin API answers them (sdk/admin.ts). */
+export type FinderView = FinderSettingsView;
 
 export interface UsageDay {
   day: string;
